@@ -24,6 +24,8 @@ public sealed class ReconciliationProblem
     private const double RankTolerance = 1e-9;
     private const double RedundancyTolerance = 1e-9;
     private const double PivotTolerance = 1e-12;
+    private const int Dependent = int.MinValue;
+    private const int Unassigned = int.MinValue + 1;
 
     private readonly ProcessNetwork _network;
     private readonly ReconciliationOptions _options;
@@ -37,6 +39,11 @@ public sealed class ReconciliationProblem
     private readonly int[] _varOfMeasurement;
     private readonly int[] _varOfUnmeasured;
     private readonly int[] _column;
+    private readonly int[] _dependentOf;
+    private readonly int[] _normalizationRow;
+    private readonly int[] _positionOf;
+    private readonly double[] _sensitivity;
+    private readonly double[] _varDependent;
     private readonly double[] _sigma2;
     private readonly double[] _initialValues;
 
@@ -73,6 +80,10 @@ public sealed class ReconciliationProblem
     private readonly double[] _h;
     private readonly double[] _k;
     private readonly double[] _column1;
+    private readonly bool _useMasks;
+    private readonly ulong[] _maskAx;
+    private readonly ulong[] _maskAu;
+    private readonly ulong[] _maskV;
     private readonly Dictionary<int, double> _chiSquareCritical = [];
     private readonly Dictionary<int, double> _sidakCritical = [];
 
@@ -91,16 +102,13 @@ public sealed class ReconciliationProblem
         _n = network.QuantityCount;
         int ns = network.Streams.Count;
         int nn = network.Nodes.Count;
-        _m = _nc == 0 ? nn : (nn * _nc) + ns;
         _nx = measurements.Count;
-        _nu = _n - _nx;
         _keys = new QuantityKey[_nx];
         _varOfMeasurement = new int[_nx];
-        _varOfUnmeasured = new int[_nu];
         _column = new int[_n];
         _sigma2 = new double[_nx];
         _initialValues = new double[_nx];
-        Array.Fill(_column, int.MinValue);
+        Array.Fill(_column, Unassigned);
         for (int i = 0; i < _nx; i++)
         {
             Measurement meas = measurements[i];
@@ -112,10 +120,46 @@ public sealed class ReconciliationProblem
             _initialValues[i] = meas.Value;
         }
 
+        // The closure of a stream with an unmeasured fraction is substituted (its last unmeasured fraction is one
+        // minus the others) instead of being carried as a balance: fewer rows and unmeasured columns to factorise.
+        _dependentOf = new int[ns];
+        _normalizationRow = new int[ns];
+        int rows = _nc == 0 ? nn : nn * _nc;
+        int dependents = 0;
+        for (int s = 0; s < ns; s++)
+        {
+            _dependentOf[s] = -1;
+            _normalizationRow[s] = -1;
+            if (_nc == 0)
+            {
+                continue;
+            }
+
+            for (int c = _nc - 1; c >= 0; c--)
+            {
+                int v = (s * _stride) + 1 + c;
+                if (_column[v] == Unassigned)
+                {
+                    _dependentOf[s] = v;
+                    _column[v] = Dependent;
+                    dependents++;
+                    break;
+                }
+            }
+
+            if (_dependentOf[s] < 0)
+            {
+                _normalizationRow[s] = rows++;
+            }
+        }
+
+        _m = rows;
+        _nu = _n - _nx - dependents;
+        _varOfUnmeasured = new int[_nu];
         int j = 0;
         for (int v = 0; v < _n; v++)
         {
-            if (_column[v] == int.MinValue)
+            if (_column[v] == Unassigned)
             {
                 _varOfUnmeasured[j] = v;
                 _column[v] = ~j;
@@ -189,6 +233,16 @@ public sealed class ReconciliationProblem
         _h = new double[_m * _nx];
         _k = new double[_nu * _nx];
         _column1 = new double[Math.Max(_m, 1)];
+        _positionOf = new int[_nu];
+        _sensitivity = new double[_nx];
+        _varDependent = new double[ns];
+
+        // Row-support bit masks of the columns and reflectors let the QR skip products of columns that share no
+        // nonzero row: the balances are sparse, and for the six-stage train this removes most of the work.
+        _useMasks = _m <= 64;
+        _maskAx = new ulong[_nx];
+        _maskAu = new ulong[_nu];
+        _maskV = new ulong[_nu];
     }
 
     /// <summary>The network reconciled.</summary>
@@ -340,7 +394,7 @@ public sealed class ReconciliationProblem
                     break;
                 }
 
-                if (residual <= tolerance && step <= Math.Max(tolerance, 1e-9))
+                if (residual <= tolerance && step <= _options.StepTolerance)
                 {
                     converged = true;
                     break;
@@ -527,18 +581,62 @@ public sealed class ReconciliationProblem
                 }
             }
         }
+
+        UpdateDependents();
+    }
+
+    private void UpdateDependents()
+    {
+        for (int s = 0; s < _dependentOf.Length; s++)
+        {
+            int d = _dependentOf[s];
+            if (d < 0)
+            {
+                continue;
+            }
+
+            double sum = 0;
+            for (int c = 0; c < _nc; c++)
+            {
+                int v = (s * _stride) + 1 + c;
+                if (v != d)
+                {
+                    sum += _z[v];
+                }
+            }
+
+            _z[d] = 1 - sum;
+        }
     }
 
     private void AddJacobian(int row, int variable, double value)
     {
         int col = _column[variable];
+        if (col == Dependent)
+        {
+            // x_d = 1 - (sum of the other fractions of the stream).
+            int first = variable - ((variable % _stride) - 1);
+            for (int c = 0; c < _nc; c++)
+            {
+                if (first + c != variable)
+                {
+                    AddJacobian(row, first + c, -value);
+                }
+            }
+
+            return;
+        }
+
+        ulong bit = _useMasks ? 1UL << row : ulong.MaxValue;
         if (col >= 0)
         {
             _ax[(col * _m) + row] += value;
+            _maskAx[col] |= bit;
         }
         else
         {
             _au[(~col * _m) + row] += value;
+            _maskAu[~col] |= bit;
         }
     }
 
@@ -546,6 +644,8 @@ public sealed class ReconciliationProblem
     {
         Array.Clear(_ax);
         Array.Clear(_au);
+        Array.Clear(_maskAx);
+        Array.Clear(_maskAu);
         int nn = _network.Nodes.Count;
         for (int node = 0; node < nn; node++)
         {
@@ -575,8 +675,8 @@ public sealed class ReconciliationProblem
             int ns = _network.Streams.Count;
             for (int s = 0; s < ns; s++)
             {
-                int row = (nn * _nc) + s;
-                for (int c = 0; c < _nc; c++)
+                int row = _normalizationRow[s];
+                for (int c = 0; c < _nc && row >= 0; c++)
                 {
                     AddJacobian(row, (s * _stride) + 1 + c, 1.0);
                 }
@@ -619,7 +719,12 @@ public sealed class ReconciliationProblem
             int ns = _network.Streams.Count;
             for (int s = 0; s < ns; s++)
             {
-                int row = (nn * _nc) + s;
+                int row = _normalizationRow[s];
+                if (row < 0)
+                {
+                    continue;
+                }
+
                 double sum = 0;
                 double abs = 0;
                 for (int c = 0; c < _nc; c++)
@@ -675,9 +780,10 @@ public sealed class ReconciliationProblem
             int pivot = -1;
             double best = RankTolerance;
             double bestNorm = 0;
+            ulong rowsFromK = _useMasks ? ulong.MaxValue << k : ulong.MaxValue;
             for (int j = k; j < _nu; j++)
             {
-                if (_norm0[j] <= 0)
+                if (_norm0[j] <= 0 || (_maskAu[j] & rowsFromK) == 0)
                 {
                     continue;
                 }
@@ -705,7 +811,11 @@ public sealed class ReconciliationProblem
                 _column1.AsSpan(0, m).CopyTo(_au.AsSpan(pivot * m, m));
                 (_perm[k], _perm[pivot]) = (_perm[pivot], _perm[k]);
                 (_norm0[k], _norm0[pivot]) = (_norm0[pivot], _norm0[k]);
+                (_maskAu[k], _maskAu[pivot]) = (_maskAu[pivot], _maskAu[k]);
             }
+
+            ulong maskV = _useMasks ? (_maskAu[k] & rowsFromK) | (1UL << k) : ulong.MaxValue;
+            _maskV[k] = maskV;
 
             Span<double> x = _au.AsSpan((k * m) + k, m - k);
             double x0 = x[0];
@@ -724,7 +834,11 @@ public sealed class ReconciliationProblem
             x[1..].Clear();
             for (int j = k + 1; j < _nu; j++)
             {
-                DenseKernels.Reflect(v, tau, _au.AsSpan((j * m) + k, m - k));
+                if ((_maskAu[j] & maskV) != 0)
+                {
+                    DenseKernels.Reflect(v, tau, _au.AsSpan((j * m) + k, m - k));
+                    _maskAu[j] |= maskV;
+                }
             }
 
             _rank = k + 1;
@@ -742,9 +856,21 @@ public sealed class ReconciliationProblem
 
     private void ProjectMeasured()
     {
+        int m = _m;
         for (int c = 0; c < _nx; c++)
         {
-            ApplyQTranspose(_ax.AsSpan(c * _m, _m));
+            Span<double> column = _ax.AsSpan(c * m, m);
+            ulong mask = _maskAx[c];
+            for (int k = 0; k < _rank; k++)
+            {
+                if ((mask & _maskV[k]) != 0)
+                {
+                    DenseKernels.Reflect(_v.AsSpan((k * m) + k, m - k), _tau[k], column[k..m]);
+                    mask |= _maskV[k];
+                }
+            }
+
+            _maskAx[c] = mask;
         }
 
         _p = _m - _rank;
@@ -991,6 +1117,7 @@ public sealed class ReconciliationProblem
             _z[_varOfMeasurement[k]] = _xNew[k];
         }
 
+        UpdateDependents();
         return step;
     }
 
@@ -1083,6 +1210,75 @@ public sealed class ReconciliationProblem
 
             _varUnmeasured[i] = Math.Max(0, direct - DenseKernels.Dot(g, g));
         }
+
+        for (int i = 0; i < _nu; i++)
+        {
+            _positionOf[_perm[i]] = i;
+        }
+
+        // A substituted fraction is one minus its siblings: its sensitivity to the reconciled measurements is minus
+        // the sum of theirs, and it is observable when every sibling is measured or observable.
+        for (int s = 0; s < _dependentOf.Length; s++)
+        {
+            int d = _dependentOf[s];
+            if (d < 0)
+            {
+                continue;
+            }
+
+            Span<double> sensitivity = _sensitivity;
+            sensitivity.Clear();
+            bool observable = true;
+            for (int c = 0; c < _nc && observable; c++)
+            {
+                int v = (s * _stride) + 1 + c;
+                int col = _column[v];
+                if (v == d)
+                {
+                    continue;
+                }
+
+                if (col >= 0)
+                {
+                    sensitivity[col] -= 1;
+                    continue;
+                }
+
+                int pos = _positionOf[~col];
+                if (!_observable[pos])
+                {
+                    observable = false;
+                    break;
+                }
+
+                for (int k = 0; k < _nx; k++)
+                {
+                    sensitivity[k] += _k[(k * _nu) + pos];
+                }
+            }
+
+            if (!observable)
+            {
+                _varDependent[s] = double.NaN;
+                continue;
+            }
+
+            double direct = 0;
+            g.Clear();
+            for (int k = 0; k < _nx; k++)
+            {
+                double gk = sensitivity[k];
+                if (gk == 0)
+                {
+                    continue;
+                }
+
+                direct += gk * gk * _sigma2[k];
+                DenseKernels.Axpy(gk, _h.AsSpan(k * m, q), g);
+            }
+
+            _varDependent[s] = Math.Max(0, direct - DenseKernels.Dot(g, g));
+        }
     }
 
     private double ChiSquareCritical(int dof)
@@ -1132,6 +1328,18 @@ public sealed class ReconciliationProblem
             estimates[variable] = _observable[i]
                 ? new QuantityEstimate(key, _z[variable], Math.Sqrt(_varUnmeasured[i]), null, QuantityStatus.Observable)
                 : new QuantityEstimate(key, double.NaN, double.NaN, null, QuantityStatus.Unobservable);
+        }
+
+        for (int s = 0; s < _dependentOf.Length; s++)
+        {
+            int d = _dependentOf[s];
+            if (d >= 0)
+            {
+                QuantityKey key = _network.KeyAt(d);
+                estimates[d] = double.IsNaN(_varDependent[s])
+                    ? new QuantityEstimate(key, double.NaN, double.NaN, null, QuantityStatus.Unobservable)
+                    : new QuantityEstimate(key, _z[d], Math.Sqrt(_varDependent[s]), null, QuantityStatus.Observable);
+            }
         }
 
         int dof = _q;
