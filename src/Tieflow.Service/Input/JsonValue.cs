@@ -128,7 +128,7 @@ internal readonly struct JsonValue
             {
                 (false, true) => minExclusive ? $"above {Fmt(min)}" : $"at least {Fmt(min)}",
                 (true, false) => $"at most {Fmt(max)}",
-                _ => $"between {Fmt(min)} and {Fmt(max)}",
+                _ => minExclusive ? $"above {Fmt(min)} and at most {Fmt(max)}" : $"between {Fmt(min)} and {Fmt(max)}",
             };
             Fail($"expected a number {range}{(unit is null ? string.Empty : " " + unit)}, found {Fmt(v)}");
             return null;
