@@ -36,12 +36,14 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
 
     private const int Solute = 0;
     private const int Solvent = 1;
-    private const int ExtractPosition = 2;
 
     private readonly TieLine[] _tieLines;
 
-    // Raffinate branch over tau (its chord length): channels solute, solvent, and the conjugate extract position sigma.
+    // Raffinate branch over tau (its chord length): channels solute, solvent.
     private readonly MonotoneCubic _raffinate;
+
+    // Conjugate relation over tau: the extract branch position sigma of the tie line's other end.
+    private readonly MonotoneCubic _conjugate;
 
     // Extract branch over sigma (its chord length): channels solute, solvent.
     private readonly MonotoneCubic _extract;
@@ -106,8 +108,12 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
         double[] tau = ChordLengths(raffinate);
         double[] sigma = ChordLengths(extract);
         bool binaryExtrapolated = _tieLines[0].Raffinate.Solute > 0;
-        _raffinate = new MonotoneCubic(tau, binaryExtrapolated, PlaitPoint.Found, raffinate.Select(p => p.Solute).ToArray(), raffinate.Select(p => p.Solvent).ToArray(), sigma);
-        _extract = new MonotoneCubic(sigma, binaryExtrapolated, PlaitPoint.Found, extract.Select(p => p.Solute).ToArray(), extract.Select(p => p.Solvent).ToArray());
+        // The extrapolated ends are kept from bending the interpolation between measured rows, except that the plait
+        // point, a point of the binodal, may shape the branches' last measured interval (leave-one-out on the
+        // published tables is better that way; it is worse when the plait point also shapes the conjugate relation).
+        _raffinate = new MonotoneCubic(tau, binaryExtrapolated, false, raffinate.Select(p => p.Solute).ToArray(), raffinate.Select(p => p.Solvent).ToArray());
+        _conjugate = new MonotoneCubic(tau, binaryExtrapolated, PlaitPoint.Found, sigma);
+        _extract = new MonotoneCubic(sigma, binaryExtrapolated, false, extract.Select(p => p.Solute).ToArray(), extract.Select(p => p.Solvent).ToArray());
 
         int m = tau.Length;
         _bracketTau = (double[])tau.Clone();
@@ -272,10 +278,15 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
                 double ds = e.Solute - r.Solute;
                 double dv = e.Solvent - r.Solvent;
                 double beta = (((zs - r.Solute) * ds) + ((zv - r.Solvent) * dv)) / ((ds * ds) + (dv * dv));
+                if (beta > 1e-12 && beta < 1 - 1e-12)
+                {
+                    return new PhaseSplit(true, r, e, beta, iterations);
+                }
+
                 if (beta >= -1e-12 && beta <= 1 + 1e-12)
                 {
-                    beta = Math.Clamp(beta, 0, 1);
-                    return new PhaseSplit(true, r, e, beta, iterations);
+                    // On the binodal itself: a saturated single phase.
+                    return PhaseSplit.OnePhase(overall, iterations);
                 }
             }
 
@@ -316,7 +327,7 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
         Preconditions.Positive(temperatureKelvin);
         CheckSolute(extractSoluteFraction, _limits.Extract, "extract");
         double sigma = _extract.FirstCrossing(Solute, Math.Min(extractSoluteFraction, _limits.Extract));
-        double tau = double.IsNaN(sigma) ? double.NaN : _raffinate.FirstCrossing(ExtractPosition, sigma);
+        double tau = double.IsNaN(sigma) ? double.NaN : _conjugate.FirstCrossing(0, sigma);
         if (double.IsNaN(tau))
         {
             throw new EquilibriumException($"Tie-line table: no tie line has an extract solute fraction of {F(extractSoluteFraction)}.");
@@ -337,7 +348,7 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
         int i = rc.Locate(tau);
         double rs = rc.Value(Solute, i, tau);
         double rv = rc.Value(Solvent, i, tau);
-        double sigma = rc.Value(ExtractPosition, i, tau);
+        double sigma = _conjugate.Value(0, i, tau);
         MonotoneCubic ec = _extract;
         int j = ec.Locate(sigma);
         double es = ec.Value(Solute, j, sigma);
