@@ -87,7 +87,7 @@ internal sealed class CountercurrentSolver
     private void Start()
     {
         Ternary mixture = _feed + _solvent;
-        PhaseSplit split = _envelope.Split(mixture);
+        PhaseSplit split = _envelope.Split(mixture.Normalized());
         if (!split.IsTwoPhase)
         {
             System.Diagnostics.Debug.Assert(mixture.Sum > 0, "scaled inflow is positive");
