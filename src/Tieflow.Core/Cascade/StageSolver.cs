@@ -108,7 +108,9 @@ internal static class StageSolver
             previousG = g;
         }
 
-        throw new CascadeException($"Stage {stage}: no leaving extract on the model's extract branch satisfies the balance with efficiency {f.Efficiency}; the stage lies outside the model's two-phase data. Raise the solvent flow or check the equilibrium data.");
+        throw new CascadeException($"Stage {stage}: no extract on the model's extract branch closes the stage balance with efficiency {f.Efficiency}. "
+            + "A low efficiency can ask for a raffinate that carries more solute than enters the stage (an entering raffinate that is not saturated with solvent takes some up): raise the stage efficiency, "
+            + "or check that the stage mixture lies within the model's two-phase data.");
     }
 
     private sealed class StageFunction(Envelope envelope, Ternary z, double xIn, double efficiency)
