@@ -1,0 +1,33 @@
+using System.Globalization;
+using Spectre.Console;
+using Tieflow.Core.Chemistry;
+
+namespace Tieflow.Service.Output;
+
+/// <summary>Readable tables of streams for the console.</summary>
+internal static class TextOutput
+{
+    public static Table StreamTable(TernarySystem system, IEnumerable<(string Name, MaterialStream Stream)> rows)
+    {
+        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        string fraction = system.Basis == CompositionBasis.Mass ? "w" : "x";
+        var table = new Table().Border(TableBorder.Simple);
+        table.AddColumn("stream");
+        table.AddColumn(new TableColumn($"flow {unit}").RightAligned());
+        foreach (Component c in system.Components)
+        {
+            table.AddColumn(new TableColumn($"{fraction} {c.Id}").RightAligned());
+        }
+
+        foreach (var (name, s) in rows)
+        {
+            table.AddRow([Markup.Escape(name), Num(s.Flow, "F3"), Num(s.Composition.Solute, "F5"), Num(s.Composition.Diluent, "F5"), Num(s.Composition.Solvent, "F5")]);
+        }
+
+        return table;
+    }
+
+    public static string Num(double v, string format) => v.ToString(format, CultureInfo.InvariantCulture);
+
+    public static void WriteNotice(IAnsiConsole console) => console.WriteLine(Notices.Advisory);
+}
