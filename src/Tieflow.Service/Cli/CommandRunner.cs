@@ -1,4 +1,5 @@
 using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Reconciliation;
 using Tieflow.Service.Input;
 
 namespace Tieflow.Service.Cli;
@@ -41,5 +42,5 @@ internal static class CommandRunner
     }
 
     /// <summary>Failures of the calculation itself, as opposed to bad input or I/O.</summary>
-    private static bool IsComputationFailure(Exception e) => e is EquilibriumException or ArithmeticException;
+    private static bool IsComputationFailure(Exception e) => e is EquilibriumException or ReconciliationException or ArithmeticException;
 }
