@@ -17,7 +17,7 @@ internal static class ReconcileCommand
     public static int Run(CliContext context, string casePath, bool json)
     {
         ReconcileCase c = ReconcileCaseReader.Load(casePath);
-        var options = new ReconciliationOptions { Significance = c.Significance };
+        var options = new ReconciliationOptions { Significance = c.Significance, MaxIterations = c.MaxIterations };
         ReconciliationReport report = DataReconciler.Reconcile(c.Network, c.Measurements, options);
         if (json)
         {

@@ -17,7 +17,7 @@ internal static class ReconcileCaseReader
 
     public static ReconcileCase? Read(JsonValue root)
     {
-        if (root.AsObject("components", "nodes", "streams", "measurements", "significance") is not { } o)
+        if (root.AsObject("components", "nodes", "streams", "measurements", "significance", "maxIterations") is not { } o)
         {
             return null;
         }
@@ -39,12 +39,13 @@ internal static class ReconcileCaseReader
 
         List<Measurement>? measurements = o.Get("measurements") is { } mv ? ReadMeasurements(mv, streams, components) : null;
         double significance = o.Get("significance", required: false)?.AsNumber(0, 0.5, minExclusive: true, unit: "(the probability of a false alarm of the tests)") ?? 0.05;
+        int maxIterations = o.Get("maxIterations", required: false)?.AsInteger(1, 1000) ?? ReconciliationOptions.Default.MaxIterations;
         if (components is null || nodes is null || streams is null || measurements is null || o.Problems.Any)
         {
             return null;
         }
 
-        return new ReconcileCase(o.File, new ProcessNetwork(nodes, streams, components), measurements, significance);
+        return new ReconcileCase(o.File, new ProcessNetwork(nodes, streams, components), measurements, significance, maxIterations);
     }
 
     private static List<string>? ReadIds(JsonValue value, string what, int minimum)
