@@ -1,3 +1,4 @@
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Equilibrium;
 using Tieflow.Service.Input;
 
@@ -41,5 +42,5 @@ internal static class CommandRunner
     }
 
     /// <summary>Failures of the calculation itself, as opposed to bad input or I/O.</summary>
-    private static bool IsComputationFailure(Exception e) => e is EquilibriumException or ArithmeticException;
+    private static bool IsComputationFailure(Exception e) => e is EquilibriumException or CascadeException or InfeasibleSpecificationException or ArithmeticException;
 }
