@@ -16,9 +16,10 @@ internal sealed class CliContext
             ColorSystem = ReferenceEquals(output, System.Console.Out) ? ColorSystemSupport.Detect : ColorSystemSupport.NoColors,
             Interactive = InteractionSupport.No,
         });
-        if (!ReferenceEquals(output, System.Console.Out))
+        // Redirected or captured output has no terminal width; tables of three components need about 100 columns.
+        if (!ReferenceEquals(output, System.Console.Out) || System.Console.IsOutputRedirected)
         {
-            Console.Profile.Width = 160;
+            Console.Profile.Width = 120;
         }
     }
 

@@ -57,7 +57,7 @@ internal static class CaseReader
         string? findText = o.Get("find")?.AsChoice("stages", "solvent", "minimum-solvent");
         DesignGoal find = findText switch { "solvent" => DesignGoal.Solvent, "minimum-solvent" => DesignGoal.MinimumSolvent, _ => DesignGoal.Stages };
         CascadeCase? cascade = ReadCascadeFields(o, stagesRequired: find == DesignGoal.Solvent, solventFlowRequired: find == DesignGoal.Stages);
-        DesignTarget? target = null;
+        DesignTargetSpec? target = null;
         if (o.Get("target", required: find != DesignGoal.MinimumSolvent) is { } tv && tv.AsObject("raffinateFraction", "recovery") is { } t)
         {
             bool hasFraction = t.Has("raffinateFraction"), hasRecovery = t.Has("recovery");
@@ -74,7 +74,7 @@ internal static class CaseReader
                     t.Fail("recovery", "a recovery of 1 needs infinitely many stages; expected a value below 1");
                 }
 
-                target = new DesignTarget(fraction, recovery);
+                target = new DesignTargetSpec(fraction, recovery);
             }
         }
         else if (find == DesignGoal.MinimumSolvent && !o.Has("target"))

@@ -35,7 +35,7 @@ internal enum DesignGoal
 }
 
 /// <summary>A design target: the solute fraction of the final raffinate, or the recovery of the feed's solute into the extract.</summary>
-internal sealed record DesignTarget(double? RaffinateFraction, double? Recovery);
+internal sealed record DesignTargetSpec(double? RaffinateFraction, double? Recovery);
 
 /// <summary>A design case: a cascade (solvent flow or stage count possibly unknown) and what to find.</summary>
-internal sealed record DesignCase(CascadeCase Cascade, DesignGoal Find, DesignTarget Target);
+internal sealed record DesignCase(CascadeCase Cascade, DesignGoal Find, DesignTargetSpec Target);

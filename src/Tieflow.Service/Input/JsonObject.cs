@@ -48,9 +48,16 @@ internal readonly partial struct JsonObject
 
     public void Fail(string message) => _value.Fail(message);
 
-    public void Fail(string key, string message) => _value.Problems.Add(_value.File, Child(_value.Path, key), message);
+    /// <summary>Records a problem at a member, or at a path below this object such as <c>target.recovery</c> or <c>tieLines[2]</c>.</summary>
+    public void Fail(string keyOrRelativePath, string message) =>
+        _value.Problems.Add(_value.File, IsRelativePath(keyOrRelativePath) ? $"{_value.Path}.{keyOrRelativePath}" : Child(_value.Path, keyOrRelativePath), message);
 
     public static string Child(string path, string key) => PlainKey().IsMatch(key) ? $"{path}.{key}" : $"{path}['{key}']";
+
+    private static bool IsRelativePath(string key) => RelativePath().IsMatch(key) && !PlainKey().IsMatch(key);
+
+    [GeneratedRegex(@"^[A-Za-z_][A-Za-z0-9_]*(\[\d+\]|\.[A-Za-z_][A-Za-z0-9_]*)*$")]
+    private static partial Regex RelativePath();
 
     [GeneratedRegex("^[A-Za-z_][A-Za-z0-9_]*$")]
     private static partial Regex PlainKey();

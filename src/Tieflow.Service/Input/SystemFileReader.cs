@@ -224,7 +224,7 @@ internal static class SystemFileReader
 
         foreach (var problem in EquilibriumModelFactory.FindTieLineProblems(lines))
         {
-            eq.Fail($"tieLines[{problem.Index}]", problem.Message);
+            eq.Fail(problem.Index < 0 ? "tieLines" : $"tieLines[{problem.Index}]", problem.Message);
         }
 
         return new TieLineSpec(t.Value, lines);
