@@ -88,7 +88,6 @@ internal static class ReconcileCommand
         w.WriteEndObject();
         w.WriteNumber("significance", c.Significance);
         w.WriteNumber("iterations", report.Initial.Iterations);
-        w.WriteNumber("balanceResidual", report.Final.BalanceResidual);
         JsonOutput.WriteNotice(w);
         w.WriteEndObject();
     }
