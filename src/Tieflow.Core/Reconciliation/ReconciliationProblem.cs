@@ -16,6 +16,11 @@ namespace Tieflow.Core.Reconciliation;
 /// Prepare once and call <see cref="Reconcile(ReadOnlySpan{double})"/> with new readings: a flow-only problem then
 /// costs a few matrix-vector products. An instance keeps its workspace and is not safe for concurrent use.
 /// </para>
+/// <para>
+/// No bounds are imposed: a fraction measured near zero or one may be reconciled slightly outside [0, 1], and a
+/// small flow slightly below zero, when the balances ask for it. The closure of a stream with an unmeasured fraction
+/// is substituted (that fraction is one minus the others) rather than carried as a balance.
+/// </para>
 /// </summary>
 public sealed class ReconciliationProblem
 {
