@@ -6,8 +6,8 @@ namespace Tieflow.Core.Tests.Reconciliation;
 public sealed class GrossErrorTestsTests
 {
     // Printed upper critical values of the chi-square distribution: NIST/SEMATECH e-Handbook of Statistical Methods,
-    // section 1.3.6.7.4 "Critical Values of the Chi-Square Distribution" (the same figures as the chi-square table of
-    // any standard statistics text), three decimals.
+    // section 1.3.6.7.4 "Critical Values of the Chi-Square Distribution" (section number from memory; the same
+    // figures as the chi-square table of any standard statistics text), three decimals.
     [Theory]
     [InlineData(1, 0.05, 3.841)]
     [InlineData(4, 0.05, 9.488)]
