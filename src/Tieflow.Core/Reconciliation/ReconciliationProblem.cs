@@ -339,9 +339,45 @@ public sealed class ReconciliationProblem
         return result!;
     }
 
+    /// <summary>
+    /// Reconciles new readings with new standard deviations (for example sigmas relative to the readings), both in the
+    /// order of <see cref="MeasuredQuantities"/>. A flow-only problem factorises again only when a sigma changed.
+    /// </summary>
+    /// <exception cref="ArgumentException">A length differs from the number of measured quantities, a value is not finite,
+    /// or a sigma is not a finite number above zero.</exception>
+    /// <exception cref="ReconciliationException">The bilinear iteration did not converge.</exception>
+    public ReconciliationResult Reconcile(ReadOnlySpan<double> values, ReadOnlySpan<double> sigmas)
+    {
+        SetSigmas(sigmas);
+        return Reconcile(values);
+    }
+
     /// <summary>Reconciles new readings; returns <see langword="false"/> instead of throwing when the iteration does not converge.</summary>
     /// <exception cref="ArgumentException">The number of values differs from the number of measured quantities, or a value is not finite.</exception>
     public bool TryReconcile(ReadOnlySpan<double> values, out ReconciliationResult? result) => TryReconcileCore(values, out result, out _);
+
+    private void SetSigmas(ReadOnlySpan<double> sigmas)
+    {
+        Preconditions.SameLength(sigmas.Length, _nx);
+        for (int i = 0; i < _nx; i++)
+        {
+            double sigma = sigmas[i];
+            if (!(sigma > 0) || !double.IsFinite(sigma))
+            {
+                throw new ArgumentException($"The sigma of {_keys[i]} is {sigma}; expected a finite number above zero.", nameof(sigmas));
+            }
+        }
+
+        for (int i = 0; i < _nx; i++)
+        {
+            double s2 = sigmas[i] * sigmas[i];
+            if (s2 != _sigma2[i])
+            {
+                _sigma2[i] = s2;
+                _linearPrepared = false;
+            }
+        }
+    }
 
     private bool TryReconcileCore(ReadOnlySpan<double> values, out ReconciliationResult? result, out string? failure)
     {

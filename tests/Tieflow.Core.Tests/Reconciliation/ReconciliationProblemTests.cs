@@ -192,6 +192,27 @@ public sealed class ReconciliationProblemTests
         Assert.True(Math.Abs(result.GlobalTest.Statistic - 6.4075) < 1e-3);
     }
 
+    [Fact]
+    public void Reconcile_NewSigmas_MatchAFreshPreparation()
+    {
+        ProcessNetwork network = TestNetworks.HeatExchangerWithBypass();
+        double[] sigmas = [2, 1, 1, 1.5, 1, 3];
+        ReconciliationProblem reused = ReconciliationProblem.Create(network, TestNetworks.HeatExchangerMeasurements(TestNetworks.HeatExchangerReadings));
+        reused.Reconcile();
+        ReconciliationResult a = reused.Reconcile(TestNetworks.HeatExchangerReadings, sigmas);
+        ReconciliationResult b = ReconciliationProblem.Create(
+            network, [.. TestNetworks.HeatExchangerReadings.Select((v, i) => Measurement.Flow($"S{i + 1}", v, sigmas[i]))]).Reconcile();
+
+        Assert.True(Math.Abs(a.GlobalTest.Statistic - b.GlobalTest.Statistic) < 1e-12);
+        for (int i = 0; i < 6; i++)
+        {
+            Assert.True(Math.Abs(a.Estimates[i].Value - b.Estimates[i].Value) < 1e-12);
+            Assert.True(Math.Abs(a.Estimates[i].Sigma - b.Estimates[i].Sigma) < 1e-12);
+        }
+
+        Assert.Throws<ArgumentException>(() => reused.Reconcile(TestNetworks.HeatExchangerReadings, [1, 1, 1, 1, 1, 0]));
+    }
+
     public static TheoryData<string, Measurement> BadMeasurements() => new()
     {
         { "unknown stream", Measurement.Flow("S9", 1, 1) },
