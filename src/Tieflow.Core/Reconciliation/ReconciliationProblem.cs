@@ -398,12 +398,8 @@ public sealed class ReconciliationProblem
         if (_nc == 0)
         {
             // Linear: the projection depends on the structure and the sigmas only, so it is factorised once.
-            SetMeasuredToReadings();
             Array.Clear(_z);
-            for (int i = 0; i < _nx; i++)
-            {
-                _z[_varOfMeasurement[i]] = _y[i];
-            }
+            SetMeasuredToReadings();
 
             if (!_linearPrepared)
             {
