@@ -121,7 +121,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> zs = [z.Solute, z.Diluent, z.Solvent];
         Span<double> trial = stackalloc double[N];
         int iterations = 0;
-        bool unstable = FindUnstableTrial(state, zs, trial, out double tm, ref iterations, stopAtFirst: false);
+        bool unstable = FindUnstableTrial(state, zs, trial, out double tm, ref iterations, stopAtFirst: false)
+            || FindUnstableFromFamily(state, temperatureKelvin, zs, trial, out tm, ref iterations);
         Ternary w = unstable ? new Ternary(trial[0], trial[1], trial[2]).Normalized() : z;
         return new StabilityTestResult(!unstable, tm, System.FromMole(w), iterations);
     }
@@ -198,7 +199,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         return System.ToMole(overall.Normalized());
     }
 
-    private PhaseSplit SplitMole(Ternary overall, Ternary zMole, double temperatureKelvin, bool hasWarmStart, Ternary warmA, Ternary warmB)
+    private PhaseSplit SplitMole(Ternary overall, Ternary zMole, double temperatureKelvin, bool hasWarmStart, Ternary warmA, Ternary warmB, bool useFamily = true)
     {
         Span<double> state = stackalloc double[StateCapacity];
         Prepare(temperatureKelvin, state);
@@ -236,26 +237,82 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> trial = stackalloc double[N];
         Span<double> zCopy = stackalloc double[N];
         z.CopyTo(zCopy);
-        if (!FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true))
+        bool unstable = FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true);
+        if (unstable)
         {
-            return PhaseSplit.OnePhase(overall, iterations);
+            // Stationarity of the tangent plane distance gives W_i / z_i = gamma_i(z) / gamma_i(w): the starting ratios.
+            Span<double> lnK0 = stackalloc double[N];
+            for (int i = 0; i < N; i++)
+            {
+                lnK0[i] = z[i] > 0 && trial[i] > 0 ? Math.Log(trial[i] / z[i]) : 0;
+            }
+
+            if (TryTwoPhase(state, z, lnK0, xa, xb, out beta, ref iterations, substitutionSteps: MaxIterations))
+            {
+                return ToSplit(overall, xa, xb, beta, iterations);
+            }
         }
 
-        // Stationarity of the tangent plane distance gives W_i / z_i = gamma_i(z) / gamma_i(w): the starting ratios.
-        Span<double> lnK0 = stackalloc double[N];
-        for (int i = 0; i < N; i++)
-        {
-            lnK0[i] = z[i] > 0 && trial[i] > 0 ? Math.Log(trial[i] / z[i]) : 0;
-        }
-
-        if (TryTwoPhase(state, z, lnK0, xa, xb, out beta, ref iterations, substitutionSteps: MaxIterations))
+        // Near the plait point the trial phases may all fall back to the mixture, and substitution crawls: there the
+        // tie lines traced for this temperature locate the one through the mixture.
+        if (useFamily && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
         {
             return ToSplit(overall, xa, xb, beta, iterations);
+        }
+
+        if (!unstable)
+        {
+            return PhaseSplit.OnePhase(overall, iterations);
         }
 
         throw new EquilibriumException(
             $"{ModelName} phase split of {F(overall)} at {F(temperatureKelvin)} K: the mixture is unstable but the two-phase " +
             $"calculation did not converge to isoactivity within {Tolerance:G3} in {MaxIterations} iterations.");
+    }
+
+    // Near the plait point the trial phases rich in one component can all fall back to the mixture itself although
+    // it splits. The traced tie lines then give two more trial phases: the ends of the tie line nearest the mixture.
+    private bool FindUnstableFromFamily(ReadOnlySpan<double> state, double temperatureKelvin, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations)
+    {
+        minTm = 0;
+        TieLineFamily family;
+        try
+        {
+            family = Family(temperatureKelvin);
+        }
+        catch (EquilibriumException)
+        {
+            return false; // no tie lines at this temperature: nothing more to try
+        }
+
+        var zt = new Ternary(z[0], z[1], z[2]);
+        double bestDistance = double.PositiveInfinity;
+        int best = -1;
+        for (int k = 0; k < family.RaffinateMole.Length; k++)
+        {
+            Ternary r = family.RaffinateMole[k];
+            Ternary e = family.ExtractMole[k];
+            Ternary de = e - r;
+            double length2 = (de.Solute * de.Solute) + (de.Diluent * de.Diluent) + (de.Solvent * de.Solvent);
+            Ternary dz = zt - r;
+            double t = length2 > 0 ? Math.Clamp(((dz.Solute * de.Solute) + (dz.Diluent * de.Diluent) + (dz.Solvent * de.Solvent)) / length2, 0, 1) : 0;
+            double distance = Ternary.MaxDifference(zt, r + (t * de));
+            if (distance < bestDistance)
+            {
+                bestDistance = distance;
+                best = k;
+            }
+        }
+
+        if (best < 0 || bestDistance > 0.05)
+        {
+            return false;
+        }
+
+        Ternary rb = family.RaffinateMole[best];
+        Ternary eb = family.ExtractMole[best];
+        Span<double> starts = [rb.Solute, rb.Diluent, rb.Solvent, eb.Solute, eb.Diluent, eb.Solvent];
+        return FindUnstableTrial(state, z, starts, trial, out minTm, ref iterations, stopAtFirst: false);
     }
 
     private PhaseSplit ToSplit(Ternary overall, ReadOnlySpan<double> xa, ReadOnlySpan<double> xb, double betaB, int iterations)
@@ -283,6 +340,41 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     // Tangent plane distance stability test. Returns true with the (unnormalised) trial phase W of negative distance.
     private bool FindUnstableTrial(ReadOnlySpan<double> state, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations, bool stopAtFirst)
     {
+        // Trial phases rich in the diluent, the solvent, then the solute (the usual order of a split's phases).
+        int presentCount = 0;
+        for (int i = 0; i < N; i++)
+        {
+            if (z[i] > 0)
+            {
+                presentCount++;
+            }
+        }
+
+        Span<double> starts = stackalloc double[3 * N];
+        int count = 0;
+        ReadOnlySpan<int> order = [1, 2, 0];
+        foreach (int k in order)
+        {
+            if (!(z[k] > 0))
+            {
+                continue;
+            }
+
+            for (int i = 0; i < N; i++)
+            {
+                starts[(count * N) + i] = z[i] > 0 ? (i == k ? 0.98 : 0.02 / (presentCount - 1)) : 0;
+            }
+
+            count++;
+        }
+
+        return FindUnstableTrial(state, z, starts[..(count * N)], trial, out minTm, ref iterations, stopAtFirst);
+    }
+
+    // Tangent plane distance from each start (mole fractions, three per start): true with the (unnormalised) trial
+    // phase W of the most negative distance found.
+    private bool FindUnstableTrial(ReadOnlySpan<double> state, ReadOnlySpan<double> z, ReadOnlySpan<double> starts, Span<double> trial, out double minTm, ref int iterations, bool stopAtFirst)
+    {
         Span<double> d = stackalloc double[N];
         Span<double> lg = stackalloc double[N];
         LnGammaCore(state, z, lg);
@@ -297,31 +389,14 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         minTm = 0;
         bool found = false;
 
-        // Trial phases rich in the diluent, the solvent, then the solute (the usual order of a split's phases).
-        ReadOnlySpan<int> order = [1, 2, 0];
-        foreach (int k in order)
+        for (int start = 0; start < starts.Length / N; start++)
         {
-            if (!(z[k] > 0))
-            {
-                continue;
-            }
-
-            int presentCount = 0;
             for (int i = 0; i < N; i++)
             {
-                if (z[i] > 0)
-                {
-                    presentCount++;
-                }
-            }
-
-            for (int i = 0; i < N; i++)
-            {
-                w[i] = z[i] > 0 ? (i == k ? 0.98 : 0.02 / (presentCount - 1)) : 0;
+                w[i] = z[i] > 0 ? Math.Max(starts[(start * N) + i], 1e-12) : 0;
             }
 
             double tm = double.NaN;
-            bool converged = false;
             for (int it = 0; it < MaxIterations; it++)
             {
                 iterations++;
@@ -357,21 +432,16 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                     break;
                 }
 
-                if (change < 1e-10)
+                // Converged, or already proven unstable with a trial phase good enough to start the split from.
+                if (change < 1e-10 || (stopAtFirst && tm < -1e-6 && change < 1e-4))
                 {
-                    converged = true;
-                    break;
-                }
-
-                // Already proven unstable and the trial phase is good enough to start the split from.
-                if (stopAtFirst && tm < -1e-6 && change < 1e-4)
-                {
-                    converged = true;
                     break;
                 }
             }
 
-            if (converged && tm < -1e-10 && tm < minTm)
+            // A negative distance anywhere proves instability, converged or not (substitution lowers it step by
+            // step, slowly near the plait point).
+            if (tm < -1e-10 && tm < minTm)
             {
                 minTm = tm;
                 w.CopyTo(best);
@@ -391,62 +461,119 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         return found;
     }
 
-    // Substitution with Rachford-Rice, then Newton on the moles of phase B. Phase A/B compositions out, beta = moles of B per mole of feed.
+    // Substitution with Rachford-Rice, then Newton on the moles of phase B; phase compositions out, beta = moles of B
+    // per mole of feed. Substitution lowers the Gibbs energy at every step but slows down near the plait point; Newton
+    // takes over once the ratios settle, and if Newton fails substitution carries on to the tolerance.
     private bool TryTwoPhase(ReadOnlySpan<double> state, ReadOnlySpan<double> z, Span<double> lnK, Span<double> xa, Span<double> xb, out double beta, ref int iterations, int substitutionSteps)
     {
         Span<double> lga = stackalloc double[N];
         Span<double> lgb = stackalloc double[N];
+        Span<double> previousStep = stackalloc double[N];
+        Span<double> stepK = stackalloc double[N];
+        Span<double> savedK = stackalloc double[N];
         beta = 0.5;
-        for (int it = 0; it < substitutionSteps; it++)
+        double change = double.PositiveInfinity;
+        int done = 0;
+        bool newtonTried = false;
+        while (true)
         {
-            iterations++;
-            if (!RachfordRice(z, lnK, ref beta))
+            for (; done < substitutionSteps; done++)
+            {
+                iterations++;
+                if (!RachfordRice(z, lnK, ref beta))
+                {
+                    return false;
+                }
+
+                PhasesFromK(z, lnK, beta, xa, xb);
+                LnGammaCore(state, xa, lga);
+                LnGammaCore(state, xb, lgb);
+                change = 0;
+                double spread = 0;
+                double dot = 0;
+                double previousNorm = 0;
+                for (int i = 0; i < N; i++)
+                {
+                    if (z[i] > 0)
+                    {
+                        double next = lga[i] - lgb[i];
+                        stepK[i] = next - lnK[i];
+                        change = Math.Max(change, Math.Abs(stepK[i]));
+                        dot += stepK[i] * previousStep[i];
+                        previousNorm += previousStep[i] * previousStep[i];
+                        lnK[i] = next;
+                        spread = Math.Max(spread, Math.Abs(next));
+                    }
+                }
+
+                if (spread < 1e-4)
+                {
+                    return false; // drifting to the trivial solution
+                }
+
+                if (change <= Tolerance)
+                {
+                    // Converged by substitution alone.
+                    if (!RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
+                    {
+                        return false;
+                    }
+
+                    PhasesFromK(z, lnK, beta, xa, xb);
+                    return Distance(xa, xb) > TrivialDistance;
+                }
+
+                // Every fifth step, extrapolate along the dominant eigenvalue of the substitution (Crowe and Nishio,
+                // AIChE J. 21, 528, 1975), which is what makes substitution slow near the plait point.
+                if (done % 5 == 4 && previousNorm > 0)
+                {
+                    double lambda = dot / previousNorm;
+                    if (lambda > 0 && lambda < 0.95)
+                    {
+                        for (int i = 0; i < N; i++)
+                        {
+                            lnK[i] += stepK[i] * lambda / (1 - lambda);
+                        }
+                    }
+                }
+
+                stepK.CopyTo(previousStep);
+                if (!newtonTried && change < 1e-6 && beta > 0 && beta < 1)
+                {
+                    done++;
+                    break;
+                }
+            }
+
+            if (newtonTried || !RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
             {
                 return false;
             }
 
+            newtonTried = true;
             PhasesFromK(z, lnK, beta, xa, xb);
-            LnGammaCore(state, xa, lga);
-            LnGammaCore(state, xb, lgb);
-            double change = 0;
-            double spread = 0;
-            for (int i = 0; i < N; i++)
+            lnK.CopyTo(savedK);
+            if (Newton(state, z, xa, xb, ref beta, ref iterations))
             {
-                if (z[i] > 0)
-                {
-                    double next = lga[i] - lgb[i];
-                    change = Math.Max(change, Math.Abs(next - lnK[i]));
-                    lnK[i] = next;
-                    spread = Math.Max(spread, Math.Abs(next));
-                }
+                return true;
             }
 
-            if (spread < 1e-4)
+            // Newton did not make it: carry on substituting from where it started.
+            savedK.CopyTo(lnK);
+            if (done >= substitutionSteps)
             {
-                return false; // drifting to the trivial solution
-            }
-
-            // Newton from here: substitution is slow near the plait point, Newton is not.
-            if (change < 1e-3 && beta > 0 && beta < 1)
-            {
-                break;
+                substitutionSteps = Math.Min(done + MaxIterations, substitutionSteps + MaxIterations);
             }
         }
-
-        if (!RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
-        {
-            return false;
-        }
-
-        PhasesFromK(z, lnK, beta, xa, xb);
-        return Newton(state, z, xa, xb, ref beta, ref iterations);
     }
 
     private bool Newton(ReadOnlySpan<double> state, ReadOnlySpan<double> z, Span<double> xa, Span<double> xb, ref double beta, ref int iterations)
     {
         Span<double> nb = stackalloc double[N];
         Span<double> na = stackalloc double[N];
+        Span<double> nbTrial = stackalloc double[N];
         Span<double> f = stackalloc double[N];
+        Span<double> fTrial = stackalloc double[N];
         Span<double> jac = stackalloc double[N * N];
         Span<double> ja = stackalloc double[N * N];
         Span<double> jb = stackalloc double[N * N];
@@ -465,16 +592,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 return false;
             }
 
-            double residual = 0;
-            for (int i = 0; i < N; i++)
-            {
-                residual = Math.Max(residual, Math.Abs(f[i]));
-            }
-
+            double residual = MaxAbs(f);
             if (residual <= Tolerance)
             {
-                double sb = nb[0] + nb[1] + nb[2];
-                beta = sb;
+                beta = nb[0] + nb[1] + nb[2];
                 return beta > 0 && beta < 1 && Distance(xa, xb) > TrivialDistance;
             }
 
@@ -504,7 +625,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 return false;
             }
 
-            // Newton step on nb (step solves J s = f, so nb -= s), cut back to keep both phases' moles positive.
+            // Newton step on nb (step solves J s = f, so nb -= s), cut back to keep both phases' moles positive,
+            // then halved until the residual falls.
             double lambda = 1;
             for (int i = 0; i < N; i++)
             {
@@ -522,13 +644,29 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
             }
 
+            bool accepted = false;
+            for (int attempt = 0; attempt < 12 && !accepted; attempt++, lambda *= 0.5)
+            {
+                for (int i = 0; i < N; i++)
+                {
+                    nbTrial[i] = z[i] > 0 ? nb[i] - (lambda * step[i]) : 0;
+                }
+
+                if (Residual(state, z, nbTrial, xa, xb, fTrial) && MaxAbs(fTrial) < residual)
+                {
+                    accepted = true;
+                }
+            }
+
+            if (!accepted)
+            {
+                return false;
+            }
+
             for (int i = 0; i < N; i++)
             {
-                if (z[i] > 0)
-                {
-                    nb[i] -= lambda * step[i];
-                    na[i] = z[i] - nb[i];
-                }
+                nb[i] = nbTrial[i];
+                na[i] = z[i] - nb[i];
             }
 
             if (Distance(xa, xb) < 1e-9)
@@ -539,6 +677,42 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
         return false;
     }
+
+    // f = mu(a) - mu(b) for phase B moles nb (phase A = z - nb); phase compositions out.
+    private bool Residual(ReadOnlySpan<double> state, ReadOnlySpan<double> z, ReadOnlySpan<double> nb, Span<double> xa, Span<double> xb, Span<double> f)
+    {
+        double ta = 0;
+        double tb = 0;
+        for (int i = 0; i < N; i++)
+        {
+            ta += z[i] - nb[i];
+            tb += nb[i];
+        }
+
+        if (!(ta > 0 && tb > 0))
+        {
+            return false;
+        }
+
+        for (int i = 0; i < N; i++)
+        {
+            xa[i] = (z[i] - nb[i]) / ta;
+            xb[i] = nb[i] / tb;
+        }
+
+        Span<double> lga = stackalloc double[N];
+        Span<double> lgb = stackalloc double[N];
+        LnGammaCore(state, xa, lga);
+        LnGammaCore(state, xb, lgb);
+        for (int i = 0; i < N; i++)
+        {
+            f[i] = z[i] > 0 ? Math.Log(xa[i]) + lga[i] - Math.Log(xb[i]) - lgb[i] : 0;
+        }
+
+        return true;
+    }
+
+    private static double MaxAbs(ReadOnlySpan<double> v) => Math.Max(Math.Abs(v[0]), Math.Max(Math.Abs(v[1]), Math.Abs(v[2])));
 
     // mu_i = ln x_i + ln gamma_i of a phase with moles n: adds sign * mu to f and writes d mu / d n into jac.
     private bool ChemicalPotentialJacobian(ReadOnlySpan<double> state, ReadOnlySpan<double> n, ReadOnlySpan<double> z, Span<double> x, Span<double> f, Span<double> jac, int sign, bool accumulate = false)
