@@ -116,6 +116,27 @@ public sealed class NrtlModelTests
         }
     }
 
+    [Fact]
+    public void Split_ColdStartWithoutTracedTieLines_GivesTheSameAnswers()
+    {
+        // The stability-test path alone (no traced tie lines to start from) against the default path.
+        NrtlModel plain = new(ReferenceNrtl.System(), ReferenceNrtl.Pairs, new TemperatureRange(298.15, 353.15)) { ColdStartFromTieLines = false };
+        NrtlModel traced = ReferenceNrtl.Model();
+        _ = traced.SoluteLimits(T);
+        var random = new Random(23);
+        for (int n = 0; n < 100; n++)
+        {
+            var z = new Ternary(0.2 * random.NextDouble(), random.NextDouble(), random.NextDouble());
+            z = z.Normalized();
+            PhaseSplit a = plain.Split(z, T);
+            PhaseSplit b = traced.Split(z, T);
+            Assert.Equal(a.IsTwoPhase, b.IsTwoPhase);
+            Assert.True(Ternary.MaxDifference(a.Raffinate, b.Raffinate) < 1e-9, $"{z}");
+            Assert.True(Ternary.MaxDifference(a.Extract, b.Extract) < 1e-9, $"{z}");
+            Assert.Equal(a.ExtractFraction, b.ExtractFraction, 1e-9);
+        }
+    }
+
     [Theory]
     [InlineData(0.1, 0.9, 0.0)]
     [InlineData(0.05, 0.93, 0.02)]

@@ -64,6 +64,32 @@ public abstract partial class ActivityCoefficientModel
             $"within {Tolerance:G3} in {MaxIterations} Newton iterations.");
     }
 
+    // A start for Newton from the traced tie lines: the two that bracket z, interpolated to pass near it.
+    private bool FamilyStart(ReadOnlySpan<double> state, TieLineFamily family, ReadOnlySpan<double> z, Span<double> xa, Span<double> xb, out double beta, ref int iterations)
+    {
+        beta = 0;
+        var zt = new Ternary(z[0], z[1], z[2]);
+        Ternary[] rs = family.RaffinateMole;
+        Ternary[] es = family.ExtractMole;
+        double cLo = Collinearity(rs[0], es[0], zt);
+        for (int i = 0; i < rs.Length - 1; i++)
+        {
+            double cHi = Collinearity(rs[i + 1], es[i + 1], zt);
+            if (((cLo <= 0 && cHi >= 0) || (cLo >= 0 && cHi <= 0)) && Lever(rs[i], es[i], zt) is > 0 and < 1)
+            {
+                double t = cLo != cHi ? cLo / (cLo - cHi) : 0;
+                Ternary r = ((1 - t) * rs[i]) + (t * rs[i + 1]);
+                Ternary e = ((1 - t) * es[i]) + (t * es[i + 1]);
+                Span<double> lnK = [SafeLnRatio(e.Solute, r.Solute), SafeLnRatio(e.Diluent, r.Diluent), SafeLnRatio(e.Solvent, r.Solvent)];
+                return TryTwoPhase(state, z, lnK, xa, xb, out beta, ref iterations, substitutionSteps: 1);
+            }
+
+            cLo = cHi;
+        }
+
+        return false;
+    }
+
     // The tie line through z among those traced for this temperature: regula falsi (Illinois) on the raffinate diluent
     // fraction for collinearity of z with the tie line's ends, each tie line solved by Newton; then polished by the
     // two-phase Newton. False when z lies on no traced tie line.

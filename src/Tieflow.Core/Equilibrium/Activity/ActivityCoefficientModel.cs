@@ -34,6 +34,11 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     private const int StateCapacity = 32;
     private const double TrivialDistance = 1e-6;
 
+    // Tuned on the reference system over its two-phase region: hand over to Newton once substitution changes ln K by
+    // less than this; leave a stability trial once it is proven unstable and changes by less than this.
+    private const double NewtonSwitch = 1e-3;
+    private const double TrialExit = 1e-2;
+
     private volatile TieLineFamily? _family;
 
     private protected ActivityCoefficientModel(TernarySystem system, TemperatureRange validTemperatures)
@@ -60,6 +65,13 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>Iteration limit of each iterative stage (stability test trial, substitution, Newton). Default 200.</summary>
     public int MaxIterations { get; init; } = 200;
+
+    /// <summary>
+    /// Whether a split without a warm start may start from the tie lines already traced for that temperature (by a
+    /// tie-line or solute-limit call, or by an earlier split near the plait point) instead of running the stability
+    /// test first. The answer is the same to the tolerance; only the work differs. Default true.
+    /// </summary>
+    public bool ColdStartFromTieLines { get; init; } = true;
 
     /// <summary>Short model name used in messages (for example "NRTL").</summary>
     private protected abstract string ModelName { get; }
@@ -237,6 +249,12 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> trial = stackalloc double[N];
         Span<double> zCopy = stackalloc double[N];
         z.CopyTo(zCopy);
+        if (useFamily && ColdStartFromTieLines && _family is { } cached && cached.TemperatureKelvin.Equals(temperatureKelvin)
+            && FamilyStart(state, cached, zCopy, xa, xb, out beta, ref iterations))
+        {
+            return ToSplit(overall, xa, xb, beta, iterations);
+        }
+
         bool unstable = FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true);
         if (unstable)
         {
@@ -433,7 +451,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
 
                 // Converged, or already proven unstable with a trial phase good enough to start the split from.
-                if (change < 1e-10 || (stopAtFirst && tm < -1e-6 && change < 1e-4))
+                if (change < 1e-10 || (stopAtFirst && tm < -1e-6 && change < TrialExit))
                 {
                     break;
                 }
@@ -538,7 +556,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
 
                 stepK.CopyTo(previousStep);
-                if (!newtonTried && change < 1e-6 && beta > 0 && beta < 1)
+                if (!newtonTried && change < NewtonSwitch && done >= 2 && beta > 0 && beta < 1)
                 {
                     done++;
                     break;
@@ -558,12 +576,9 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 return true;
             }
 
-            // Newton did not make it: carry on substituting from where it started.
+            // Newton did not make it: give up here (the caller falls back on the traced tie lines).
             savedK.CopyTo(lnK);
-            if (done >= substitutionSteps)
-            {
-                substitutionSteps = Math.Min(done + MaxIterations, substitutionSteps + MaxIterations);
-            }
+            substitutionSteps = done;
         }
     }
 
