@@ -175,7 +175,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// The plait point at a temperature, estimated as the middle of the shortest tie line traced from the binary end
-    /// (the two ends then differ by less than about 1e-3 in mole fraction when a plait point exists).
+    /// (its ends differ by a few thousandths in mole fraction when a plait point exists: tracing stops at tie lines
+    /// shorter than 0.001).
     /// </summary>
     /// <exception cref="EquilibriumException">When the diluent and solvent do not split at this temperature.</exception>
     public PlaitPointEstimate EstimatePlaitPoint(double temperatureKelvin)
@@ -196,6 +197,21 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>ln gamma at mole fractions <paramref name="x"/> (zero or more, summing to one) from a prepared state.</summary>
     private protected abstract void LnGammaCore(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma);
+
+    /// <summary>
+    /// ln gamma and its derivatives d ln gamma_i / d n_j (row-major 3 x 3) with respect to the mole numbers of one mole of
+    /// mixture of composition <paramref name="x"/>; false when the model has no analytic derivatives (finite
+    /// differences are used then).
+    /// </summary>
+    private protected virtual bool LnGammaDerivatives(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives) => false;
+
+    /// <summary>For tests: the analytic derivatives at a temperature, or false when the model has none.</summary>
+    internal bool TryLnGammaDerivatives(double temperatureKelvin, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives)
+    {
+        Span<double> state = stackalloc double[StateCapacity];
+        Prepare(temperatureKelvin, state);
+        return LnGammaDerivatives(state, x, lnGamma, derivatives);
+    }
 
     private static bool IsComposition(in Ternary t) =>
         t.Solute >= 0 && t.Diluent >= 0 && t.Solvent >= 0 && double.IsFinite(t.Sum) && t.Sum > 0;
@@ -488,7 +504,6 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> lgb = stackalloc double[N];
         Span<double> previousStep = stackalloc double[N];
         Span<double> stepK = stackalloc double[N];
-        Span<double> savedK = stackalloc double[N];
         beta = 0.5;
         double change = double.PositiveInfinity;
         int done = 0;
@@ -570,15 +585,9 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
             newtonTried = true;
             PhasesFromK(z, lnK, beta, xa, xb);
-            lnK.CopyTo(savedK);
-            if (Newton(state, z, xa, xb, ref beta, ref iterations))
-            {
-                return true;
-            }
 
-            // Newton did not make it: give up here (the caller falls back on the traced tie lines).
-            savedK.CopyTo(lnK);
-            substitutionSteps = done;
+            // When Newton does not make it the caller falls back on the traced tie lines.
+            return Newton(state, z, xa, xb, ref beta, ref iterations);
         }
     }
 
@@ -746,11 +755,31 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> lg = stackalloc double[N];
         Span<double> lgp = stackalloc double[N];
         Span<double> np = stackalloc double[N];
-        LnGammaCore(state, x, lg);
+        Span<double> dn = stackalloc double[N * N];
+        bool analytic = LnGammaDerivatives(state, x, lg, dn);
+        if (!analytic)
+        {
+            LnGammaCore(state, x, lg);
+        }
+
         for (int i = 0; i < N; i++)
         {
             double mu = z[i] > 0 ? Math.Log(x[i]) + lg[i] : 0;
             f[i] = accumulate ? f[i] + (sign * mu) : sign * mu;
+        }
+
+        if (analytic)
+        {
+            for (int i = 0; i < N; i++)
+            {
+                for (int j = 0; j < N; j++)
+                {
+                    double ideal = (i == j && z[i] > 0 ? 1 / n[i] : 0) - (1 / total);
+                    jac[(i * N) + j] = z[j] > 0 ? ideal + (dn[(i * N) + j] / total) : 0;
+                }
+            }
+
+            return true;
         }
 
         // d ln gamma_i / d n_j by forward differences of the normalised composition.
