@@ -16,11 +16,15 @@ namespace Tieflow.Core.Equilibrium.Activity;
 /// <para>
 /// Split from a cold start: a tangent-plane-distance stability test (Michelsen 1982) from trial phases rich in each
 /// component finds whether the mixture splits and gives a trial phase; successive substitution of the distribution
-/// ratios with the Rachford-Rice equation for the phase fraction follows, then Newton's method on the mole numbers of
-/// one phase (Jacobian of the activity coefficients by finite differences) polishes to isoactivity within
-/// <see cref="Tolerance"/>. A converged answer whose phases coincide (the trivial solution) is never returned as two
-/// phases. A warm start skips the stability test and starts from the given phases, falling back to a cold start if
-/// that does not give a proper split. The raffinate is the diluent-richer phase.
+/// ratios with the Rachford-Rice equation for the phase fraction follows (with dominant-eigenvalue acceleration every
+/// fifth step), then Newton's method on the mole numbers of one phase (analytic Jacobian where the model has one,
+/// finite differences otherwise; step halving on the residual) polishes to isoactivity within <see cref="Tolerance"/>.
+/// Near the plait point, where substitution crawls and Newton may not converge from its start, the tie lines traced
+/// for the temperature locate the tie line through the mixture. When those tie lines are already traced and
+/// <see cref="ColdStartFromTieLines"/> is set, a cold start begins with Newton from the two traced tie lines that
+/// bracket the mixture instead (same answer, far less work). A converged answer whose phases coincide (the trivial
+/// solution) is never returned as two phases. A warm start skips the stability test and starts from the given phases,
+/// falling back to a cold start if that does not give a proper split. The raffinate is the diluent-richer phase.
 /// </para>
 /// <para>
 /// Tie lines with a given solute fraction at one end are found by Newton's method on isoactivity with that fraction
@@ -122,7 +126,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// Tangent-plane-distance stability test of a mixture (fractions on the system's basis) from trial phases rich in
-    /// each component present.
+    /// each component present, and, when tie lines have been traced at this temperature, from the ends of the tie line
+    /// nearest the mixture. A test that finds no negative distance is strong evidence, not proof, of stability: in the
+    /// thin metastable band along the binodal near the plait point the component-rich trial phases can all fall back to
+    /// the mixture.
     /// </summary>
     /// <exception cref="ArgumentException">When the fractions are invalid.</exception>
     public StabilityTestResult TestStability(Ternary overall, double temperatureKelvin)
@@ -213,6 +220,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         return LnGammaDerivatives(state, x, lnGamma, derivatives);
     }
 
+    private bool IsFamilyCached(double temperatureKelvin) => _family is { } f && f.TemperatureKelvin.Equals(temperatureKelvin);
+
     private static bool IsComposition(in Ternary t) =>
         t.Solute >= 0 && t.Diluent >= 0 && t.Solvent >= 0 && double.IsFinite(t.Sum) && t.Sum > 0;
 
@@ -288,8 +297,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         }
 
         // Near the plait point the trial phases may all fall back to the mixture, and substitution crawls: there the
-        // tie lines traced for this temperature locate the one through the mixture.
-        if (useFamily && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
+        // tie lines traced for this temperature locate the one through the mixture. They are traced for that (a few
+        // milliseconds) when the mixture is known to be unstable; a mixture the trial phases found stable is checked
+        // against them only when they are already there, so that one-phase splits at ever new temperatures stay cheap.
+        if (useFamily && (unstable || IsFamilyCached(temperatureKelvin)) && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
         {
             return ToSplit(overall, xa, xb, beta, iterations);
         }
@@ -305,19 +316,17 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     }
 
     // Near the plait point the trial phases rich in one component can all fall back to the mixture itself although
-    // it splits. The traced tie lines then give two more trial phases: the ends of the tie line nearest the mixture.
+    // it splits. The tie lines traced for this temperature (when there are) then give two more trial phases: the ends
+    // of the tie line nearest the mixture.
     private bool FindUnstableFromFamily(ReadOnlySpan<double> state, double temperatureKelvin, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations)
     {
         minTm = 0;
-        TieLineFamily family;
-        try
+        if (!IsFamilyCached(temperatureKelvin))
         {
-            family = Family(temperatureKelvin);
+            return false;
         }
-        catch (EquilibriumException)
-        {
-            return false; // no tie lines at this temperature: nothing more to try
-        }
+
+        TieLineFamily family = Family(temperatureKelvin);
 
         var zt = new Ternary(z[0], z[1], z[2]);
         double bestDistance = double.PositiveInfinity;
