@@ -105,6 +105,13 @@ public sealed class CascadeSolver
         return new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: true);
     }
 
+    /// <summary>Counter-current solve from a starting profile (x, y, raffinate flow, extract flow per stage), or from the equilibrium split when null.</summary>
+    internal CascadeResult SolveCountercurrent(MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, double[]? start)
+    {
+        CheckInputs(feed, solvent, efficiencies);
+        return new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: true, start);
+    }
+
     /// <summary>Counter-current cascade with the same efficiency on every stage.</summary>
     /// <inheritdoc cref="SolveCountercurrent(MaterialStream, MaterialStream, IReadOnlyList{double})"/>
     public CascadeResult SolveCountercurrent(MaterialStream feed, MaterialStream solvent, int stages, double efficiency) =>

@@ -30,7 +30,8 @@ internal sealed class CountercurrentSolver
     private readonly double[] _trial;
     private readonly double[] _residual;
     private readonly double[] _trialResidual;
-    private readonly double[] _jacobian;
+    private readonly double[] _step;
+    private readonly BandedLinear _jacobian;
     private Curves _curves;
     private Curves _trialCurves;
 
@@ -49,16 +50,17 @@ internal sealed class CountercurrentSolver
         _trial = new double[size];
         _residual = new double[size];
         _trialResidual = new double[size];
-        _jacobian = new double[size * size];
+        _step = new double[size];
+        _jacobian = new BandedLinear(size, 7, 7);
         _curves = new Curves(_n);
         _trialCurves = new Curves(_n);
     }
 
     public int Iterations { get; private set; }
 
-    public CascadeResult Solve(bool throwOnFailure)
+    public CascadeResult Solve(bool throwOnFailure, double[]? start = null)
     {
-        Start();
+        Start(start);
         bool converged = false;
         int sweepsLeft = _options.MaxIterations;
         while (Iterations < _options.MaxIterations)
@@ -84,8 +86,21 @@ internal sealed class CountercurrentSolver
         return Result(converged ? CascadeStatus.Converged : CascadeStatus.IterationLimit);
     }
 
-    private void Start()
+    private void Start(double[]? start)
     {
+        if (start is not null)
+        {
+            for (int i = 0; i < start.Length; i++)
+            {
+                _u[i] = i % 4 < 2 ? start[i] : start[i] / _scale;
+            }
+
+            Project(_u);
+            EvaluateCurves(_u, _curves);
+            Residual(_u, _curves, _residual);
+            return;
+        }
+
         Ternary mixture = _feed + _solvent;
         PhaseSplit split = _envelope.Split(mixture.Normalized());
         if (!split.IsTwoPhase)
@@ -113,7 +128,7 @@ internal sealed class CountercurrentSolver
     {
         int size = 4 * _n;
         double norm = MaxAbs(_residual);
-        var step = new double[size];
+        double[] step = _step;
         while (Iterations < _options.MaxIterations)
         {
             if (norm <= _options.Tolerance)
@@ -129,7 +144,7 @@ internal sealed class CountercurrentSolver
                 step[i] = -_residual[i];
             }
 
-            if (!DenseLinear.Solve(_jacobian, step, size))
+            if (!_jacobian.Solve(step))
             {
                 return false;
             }
@@ -244,41 +259,40 @@ internal sealed class CountercurrentSolver
         }
     }
 
-    private void Jacobian(double[] u, Curves c, double[] j)
+    private void Jacobian(double[] u, Curves c, BandedLinear j)
     {
-        int size = 4 * _n;
-        Array.Clear(j);
+        j.Clear();
         for (int k = 0; k < _n; k++)
         {
             int col = 4 * k;
             for (int comp = 0; comp < 3; comp++)
             {
-                int row = ((4 * k) + comp) * size;
-                j[row + col] = -u[col + 2] * c.RaffinateSlope[k][comp];
-                j[row + col + 1] = -u[col + 3] * c.ExtractSlope[k][comp];
-                j[row + col + 2] = -c.Raffinate[k][comp];
-                j[row + col + 3] = -c.Extract[k][comp];
+                int row = (4 * k) + comp;
+                j.Set(row, col, -u[col + 2] * c.RaffinateSlope[k][comp]);
+                j.Set(row, col + 1, -u[col + 3] * c.ExtractSlope[k][comp]);
+                j.Set(row, col + 2, -c.Raffinate[k][comp]);
+                j.Set(row, col + 3, -c.Extract[k][comp]);
                 if (k > 0)
                 {
                     int prev = col - 4;
-                    j[row + prev] = u[prev + 2] * c.RaffinateSlope[k - 1][comp];
-                    j[row + prev + 2] = c.Raffinate[k - 1][comp];
+                    j.Set(row, prev, u[prev + 2] * c.RaffinateSlope[k - 1][comp]);
+                    j.Set(row, prev + 2, c.Raffinate[k - 1][comp]);
                 }
 
                 if (k < _n - 1)
                 {
                     int next = col + 4;
-                    j[row + next + 1] = u[next + 3] * c.ExtractSlope[k + 1][comp];
-                    j[row + next + 3] = c.Extract[k + 1][comp];
+                    j.Set(row, next + 1, u[next + 3] * c.ExtractSlope[k + 1][comp]);
+                    j.Set(row, next + 3, c.Extract[k + 1][comp]);
                 }
             }
 
-            int murphree = ((4 * k) + 3) * size;
-            j[murphree + col] = 1;
-            j[murphree + col + 1] = -_efficiency[k] * c.EquilibriumRaffinateSlope[k];
+            int murphree = (4 * k) + 3;
+            j.Set(murphree, col, 1);
+            j.Set(murphree, col + 1, -_efficiency[k] * c.EquilibriumRaffinateSlope[k]);
             if (k > 0)
             {
-                j[murphree + col - 4] = -1 + _efficiency[k];
+                j.Set(murphree, col - 4, -1 + _efficiency[k]);
             }
         }
     }
