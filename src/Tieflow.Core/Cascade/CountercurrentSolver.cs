@@ -8,7 +8,8 @@ namespace Tieflow.Core.Cascade;
 /// Counter-current cascade by Newton's method on the whole profile. Unknowns per stage: the solute fractions of
 /// the leaving raffinate (x) and extract (y), both on the envelope, and the two leaving flows scaled by the total
 /// inflow. Equations per stage: three component balances and the Murphree relation. Envelope derivatives come from
-/// forward differences of the model's tie-line functions (4 model calls per stage and step). Steps are projected
+/// forward differences of the model's tie-line functions (4 model calls per stage and step, 2 for a stage of
+/// efficiency 1, whose raffinate is the other end of its extract's tie line). Steps are projected
 /// onto the envelope's range and halved until the largest residual falls. The start is the equilibrium split of
 /// feed plus solvent on every stage. Should Newton stall, Gauss-Seidel sweeps of single-stage solves (slow but
 /// robust) bring the profile closer before Newton resumes.
@@ -34,6 +35,8 @@ internal sealed class CountercurrentSolver
     private readonly BandedLinear _jacobian;
     private Curves _curves;
     private Curves _trialCurves;
+    private IEnvelopeBranches _values;
+    private IEnvelopeBranches _slopes;
 
     public CountercurrentSolver(Envelope envelope, MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, CascadeSolverOptions options)
     {
@@ -54,18 +57,35 @@ internal sealed class CountercurrentSolver
         _jacobian = new BandedLinear(size, 7, 7);
         _curves = new Curves(_n);
         _trialCurves = new Curves(_n);
+        _values = envelope;
+        _slopes = envelope;
     }
 
     public int Iterations { get; private set; }
 
-    public CascadeResult Solve(bool throwOnFailure, double[]? start = null)
+    public CascadeResult Solve(bool throwOnFailure, double[]? start = null, bool useTable = false)
     {
-        Start(start);
         bool converged = false;
-        int sweepsLeft = _options.MaxIterations;
-        while (Iterations < _options.MaxIterations)
+        EnvelopeTable? table = useTable && start is null ? _envelope.Table : null;
+        if (table is not null && TableStart(table))
         {
-            if (Newton())
+            // Residuals from the model, Jacobian from the table: the start is within the table's error of the answer.
+            _values = _envelope;
+            _slopes = table;
+            EvaluateCurves(_u, _curves);
+            Residual(_u, _curves, _residual);
+            converged = Newton(_options.Tolerance, Math.Min(_options.MaxIterations, 12));
+            _slopes = _envelope;
+        }
+        else
+        {
+            Start(start);
+        }
+
+        int sweepsLeft = _options.MaxIterations;
+        while (!converged && Iterations < _options.MaxIterations)
+        {
+            if (Newton(_options.Tolerance, _options.MaxIterations))
             {
                 converged = true;
                 break;
@@ -84,6 +104,40 @@ internal sealed class CountercurrentSolver
         }
 
         return Result(converged ? CascadeStatus.Converged : CascadeStatus.IterationLimit);
+    }
+
+    /// <summary>Solves the cascade on the table alone, from the table's split of feed plus solvent; false when that fails.</summary>
+    private bool TableStart(EnvelopeTable table)
+    {
+        Ternary mixture = _feed + _solvent;
+        if (!table.TrySplit(mixture, out double x, out double y))
+        {
+            return false;
+        }
+
+        TieLine tie = table.FromExtract(y);
+        (double l, double v) = Envelope.Lever(mixture, tie.Raffinate, tie.Extract);
+        if (!(l > 0 && v > 0))
+        {
+            return false;
+        }
+
+        for (int k = 0; k < _n; k++)
+        {
+            _u[4 * k] = x;
+            _u[(4 * k) + 1] = y;
+            _u[(4 * k) + 2] = l;
+            _u[(4 * k) + 3] = v;
+        }
+
+        _values = table;
+        _slopes = table;
+        EvaluateCurves(_u, _curves);
+        Residual(_u, _curves, _residual);
+        bool ok = Newton(1e-10, 50);
+        _values = _envelope;
+        _slopes = _envelope;
+        return ok;
     }
 
     private void Start(double[]? start)
@@ -123,15 +177,15 @@ internal sealed class CountercurrentSolver
         Residual(_u, _curves, _residual);
     }
 
-    /// <summary>Newton steps until converged (true) or stalled (false).</summary>
-    private bool Newton()
+    /// <summary>Newton steps until converged (true) or stalled or out of steps (false).</summary>
+    private bool Newton(double tolerance, int maxSteps)
     {
         int size = 4 * _n;
         double norm = MaxAbs(_residual);
         double[] step = _step;
-        while (Iterations < _options.MaxIterations)
+        for (int taken = 0; taken < maxSteps && Iterations < _options.MaxIterations; taken++)
         {
-            if (norm <= _options.Tolerance)
+            if (norm <= tolerance)
             {
                 return true;
             }
@@ -162,7 +216,7 @@ internal sealed class CountercurrentSolver
                 EvaluateCurves(_trial, _trialCurves);
                 Residual(_trial, _trialCurves, _trialResidual);
                 double trialNorm = MaxAbs(_trialResidual);
-                if (trialNorm < (1 - (1e-4 * alpha)) * norm || trialNorm <= _options.Tolerance)
+                if (trialNorm < (1 - (1e-4 * alpha)) * norm || trialNorm <= tolerance)
                 {
                     accepted = true;
                     norm = trialNorm;
@@ -182,7 +236,7 @@ internal sealed class CountercurrentSolver
             (_curves, _trialCurves) = (_trialCurves, _curves);
         }
 
-        return norm <= _options.Tolerance;
+        return norm <= tolerance;
     }
 
     /// <summary>One Gauss-Seidel sweep of single-stage solves from the feed end.</summary>
@@ -221,8 +275,9 @@ internal sealed class CountercurrentSolver
     {
         for (int k = 0; k < _n; k++)
         {
-            c.Raffinate[k] = _envelope.Raffinate(u[4 * k]);
-            TieLine tie = _envelope.FromExtract(u[(4 * k) + 1]);
+            // An equilibrium stage's raffinate is the other end of its extract's tie line: one model call, not two.
+            TieLine tie = _values.FromExtract(u[(4 * k) + 1]);
+            c.Raffinate[k] = _efficiency[k] == 1 ? tie.Raffinate : _values.Raffinate(u[4 * k]);
             c.Extract[k] = tie.Extract;
             c.EquilibriumRaffinate[k] = tie.Raffinate.Solute;
         }
@@ -230,17 +285,29 @@ internal sealed class CountercurrentSolver
 
     private void EvaluateDerivatives(double[] u, Curves c)
     {
+        bool sameSource = ReferenceEquals(_slopes, _values);
         for (int k = 0; k < _n; k++)
         {
+            bool conjugate = _efficiency[k] == 1;
             double x = u[4 * k];
-            double hx = x + DerivativeStep <= _envelope.RaffinateMax ? DerivativeStep : -DerivativeStep;
-            c.RaffinateSlope[k] = (1 / hx) * (_envelope.Raffinate(x + hx) - c.Raffinate[k]);
+            if (conjugate)
+            {
+                c.RaffinateSlope[k] = default;
+            }
+            else
+            {
+                double hx = x + DerivativeStep <= _slopes.RaffinateMax ? DerivativeStep : -DerivativeStep;
+                Ternary r0 = sameSource ? c.Raffinate[k] : _slopes.Raffinate(x);
+                c.RaffinateSlope[k] = (1 / hx) * (_slopes.Raffinate(x + hx) - r0);
+            }
 
             double y = u[(4 * k) + 1];
-            double hy = y + DerivativeStep <= _envelope.ExtractMax ? DerivativeStep : -DerivativeStep;
-            TieLine tie = _envelope.FromExtract(y + hy);
-            c.ExtractSlope[k] = (1 / hy) * (tie.Extract - c.Extract[k]);
-            c.EquilibriumRaffinateSlope[k] = (tie.Raffinate.Solute - c.EquilibriumRaffinate[k]) / hy;
+            double hy = y + DerivativeStep <= _slopes.ExtractMax ? DerivativeStep : -DerivativeStep;
+            TieLine t0 = sameSource ? new TieLine(conjugate ? c.Raffinate[k] : new Ternary(c.EquilibriumRaffinate[k], 0, 0), c.Extract[k]) : _slopes.FromExtract(y);
+            TieLine tie = _slopes.FromExtract(y + hy);
+            c.ExtractSlope[k] = (1 / hy) * (tie.Extract - t0.Extract);
+            c.EquilibriumRaffinateSlope[k] = (tie.Raffinate.Solute - t0.Raffinate.Solute) / hy;
+            c.ConjugateSlope[k] = conjugate ? (1 / hy) * (tie.Raffinate - t0.Raffinate) : default;
         }
     }
 
@@ -269,13 +336,14 @@ internal sealed class CountercurrentSolver
             {
                 int row = (4 * k) + comp;
                 j.Set(row, col, -u[col + 2] * c.RaffinateSlope[k][comp]);
-                j.Set(row, col + 1, -u[col + 3] * c.ExtractSlope[k][comp]);
+                j.Set(row, col + 1, (-u[col + 3] * c.ExtractSlope[k][comp]) - (u[col + 2] * c.ConjugateSlope[k][comp]));
                 j.Set(row, col + 2, -c.Raffinate[k][comp]);
                 j.Set(row, col + 3, -c.Extract[k][comp]);
                 if (k > 0)
                 {
                     int prev = col - 4;
                     j.Set(row, prev, u[prev + 2] * c.RaffinateSlope[k - 1][comp]);
+                    j.Set(row, prev + 1, u[prev + 2] * c.ConjugateSlope[k - 1][comp]);
                     j.Set(row, prev + 2, c.Raffinate[k - 1][comp]);
                 }
 
@@ -338,6 +406,9 @@ internal sealed class CountercurrentSolver
         public Ternary[] Raffinate { get; } = new Ternary[n];
 
         public Ternary[] RaffinateSlope { get; } = new Ternary[n];
+
+        /// <summary>Slope of an equilibrium stage's raffinate (the conjugate end of its extract's tie line) with y.</summary>
+        public Ternary[] ConjugateSlope { get; } = new Ternary[n];
 
         public Ternary[] Extract { get; } = new Ternary[n];
 
