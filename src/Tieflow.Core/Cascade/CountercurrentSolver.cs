@@ -159,9 +159,7 @@ internal sealed class CountercurrentSolver
         PhaseSplit split = _envelope.Split(mixture.Normalized());
         if (!split.IsTwoPhase)
         {
-            System.Diagnostics.Debug.Assert(mixture.Sum > 0, "scaled inflow is positive");
-            Ternary z = (1 / mixture.Sum) * mixture;
-            throw new CascadeException($"The feed and the solvent together form one liquid phase ({_envelope.Model.System.Solute.Id} {z.Solute:G4}, {_envelope.Model.System.Diluent.Id} {z.Diluent:G4}, {_envelope.Model.System.Solvent.Id} {z.Solvent:G4}), so no stage can split them. Raise the solvent flow.");
+            throw StageSolver.OnePhase(_envelope, "The feed and the solvent together", _feed, _solvent);
         }
 
         (double l, double v) = Envelope.Lever(mixture, split.Raffinate, split.Extract);
