@@ -22,6 +22,8 @@ public sealed class GoldenOutputTests
         { "design", "x300-design-stages.case.json" },
         { "design", "x300-design-solvent.case.json" },
         { "design", "x300-design-minimum-solvent.case.json" },
+        { "reconcile", "hx-bypass-reconcile.case.json" },
+        { "reconcile", "x350-two-stage-reconcile.case.json" },
     };
 
     [Theory]
