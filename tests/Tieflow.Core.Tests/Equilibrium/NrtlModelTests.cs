@@ -116,6 +116,27 @@ public sealed class NrtlModelTests
         }
     }
 
+    [Fact]
+    public void Split_ColdStartWithoutTracedTieLines_GivesTheSameAnswers()
+    {
+        // The stability-test path alone (no traced tie lines to start from) against the default path.
+        NrtlModel plain = new(ReferenceNrtl.System(), ReferenceNrtl.Pairs, new TemperatureRange(298.15, 353.15)) { ColdStartFromTieLines = false };
+        NrtlModel traced = ReferenceNrtl.Model();
+        _ = traced.SoluteLimits(T);
+        var random = new Random(23);
+        for (int n = 0; n < 100; n++)
+        {
+            var z = new Ternary(0.2 * random.NextDouble(), random.NextDouble(), random.NextDouble());
+            z = z.Normalized();
+            PhaseSplit a = plain.Split(z, T);
+            PhaseSplit b = traced.Split(z, T);
+            Assert.Equal(a.IsTwoPhase, b.IsTwoPhase);
+            Assert.True(Ternary.MaxDifference(a.Raffinate, b.Raffinate) < 1e-9, $"{z}");
+            Assert.True(Ternary.MaxDifference(a.Extract, b.Extract) < 1e-9, $"{z}");
+            Assert.Equal(a.ExtractFraction, b.ExtractFraction, 1e-9);
+        }
+    }
+
     [Theory]
     [InlineData(0.1, 0.9, 0.0)]
     [InlineData(0.05, 0.93, 0.02)]
@@ -218,6 +239,51 @@ public sealed class NrtlModelTests
         double[] x = [s, d, v];
         Assert.True(Math.Abs(ActivityAssertions.GibbsDuhemResidual(model, T, x, 0, 1)) < 1e-7);
         Assert.True(Math.Abs(ActivityAssertions.GibbsDuhemResidual(model, T, x, 2, 0)) < 1e-7);
+    }
+
+    [Theory]
+    [InlineData(0.2, 0.3, 0.5)]
+    [InlineData(0.05, 0.9, 0.05)]
+    [InlineData(0.0, 0.4, 0.6)]
+    public void LnGammaDerivatives_MatchCentralDifferences(double s, double d, double v)
+    {
+        // d ln gamma_i / d n_j at one mole, against central differences of the mole numbers (error about 1e-9).
+        NrtlModel model = ReferenceNrtl.Model();
+        double[] x = [s, d, v];
+        Span<double> lg = stackalloc double[3];
+        Span<double> analytic = stackalloc double[9];
+        Assert.True(model.TryLnGammaDerivatives(T, x, lg, analytic));
+        Span<double> plus = stackalloc double[3];
+        Span<double> minus = stackalloc double[3];
+        Span<double> lgPlus = stackalloc double[3];
+        Span<double> lgMinus = stackalloc double[3];
+        const double H = 1e-6;
+        for (int j = 0; j < 3; j++)
+        {
+            x.CopyTo(plus);
+            x.CopyTo(minus);
+            plus[j] += H;
+            minus[j] -= H;
+            double tp = plus[0] + plus[1] + plus[2];
+            double tm = minus[0] + minus[1] + minus[2];
+            for (int i = 0; i < 3; i++)
+            {
+                plus[i] /= tp;
+                minus[i] /= tm;
+            }
+
+            if (minus[j] < 0)
+            {
+                continue;
+            }
+
+            model.LnGamma(T, plus, lgPlus);
+            model.LnGamma(T, minus, lgMinus);
+            for (int i = 0; i < 3; i++)
+            {
+                Assert.Equal((lgPlus[i] - lgMinus[i]) / (2 * H), analytic[(i * 3) + j], 1e-7);
+            }
+        }
     }
 
     [Fact]

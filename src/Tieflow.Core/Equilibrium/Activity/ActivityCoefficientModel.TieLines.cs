@@ -44,14 +44,34 @@ public abstract partial class ActivityCoefficientModel
             }
 
             double t = b != a ? Math.Clamp((soluteFraction - a) / (b - a), 0, 1) : 0;
-            for (int attempt = 0; attempt < 3; attempt++)
+            for (int attempt = 0; attempt < 4; attempt++)
             {
-                double w = attempt switch { 0 => t, 1 => 0, _ => 1 };
-                Ternary r = ((1 - w) * family.RaffinateMole[k]) + (w * family.RaffinateMole[k + 1]);
-                Ternary e = ((1 - w) * family.ExtractMole[k]) + (w * family.ExtractMole[k + 1]);
-                bool ok = fromRaffinate
-                    ? SolveFixed(state, SoluteIndex, soluteFraction, pIsRaffinate: true, ref r, ref e)
-                    : SolveFixed(state, SoluteIndex, soluteFraction, pIsRaffinate: false, ref e, ref r);
+                Ternary r;
+                Ternary e;
+                bool ok;
+                if (attempt < 3)
+                {
+                    double w = attempt switch { 0 => t, 1 => 0, _ => 1 };
+                    r = ((1 - w) * family.RaffinateMole[k]) + (w * family.RaffinateMole[k + 1]);
+                    e = ((1 - w) * family.ExtractMole[k]) + (w * family.ExtractMole[k + 1]);
+                    ok = fromRaffinate
+                        ? SolveFixed(state, SoluteIndex, soluteFraction, pIsRaffinate: true, ref r, ref e)
+                        : SolveFixed(state, SoluteIndex, soluteFraction, pIsRaffinate: false, ref e, ref r);
+                }
+                else
+                {
+                    // Near the plait point holding the solute is ill-conditioned; holding the raffinate diluent, as
+                    // the tracing did, is not: search along the family for the solute fraction instead.
+                    double target = soluteFraction;
+                    ok = fromRaffinate
+                        ? SolveAlongFamily(state, family, k, (rb, _) => rb.Solute - target, out r, out e)
+                        : SolveAlongFamily(state, family, k, (_, eb) => eb.Solute - target, out r, out e);
+                    if (ok)
+                    {
+                        return new TieLine(r, e);
+                    }
+                }
+
                 if (ok)
                 {
                     return new TieLine(System.FromMole(r), System.FromMole(e));
@@ -62,6 +82,32 @@ public abstract partial class ActivityCoefficientModel
         throw new EquilibriumException(
             $"{ModelName}: the tie line with {phase} solute fraction {F(soluteFraction)} at {F(temperatureKelvin)} K did not converge to isoactivity " +
             $"within {Tolerance:G3} in {MaxIterations} Newton iterations.");
+    }
+
+    // A start for Newton from the traced tie lines: the two that bracket z, interpolated to pass near it.
+    private bool FamilyStart(ReadOnlySpan<double> state, TieLineFamily family, ReadOnlySpan<double> z, Span<double> xa, Span<double> xb, out double beta, ref int iterations)
+    {
+        beta = 0;
+        var zt = new Ternary(z[0], z[1], z[2]);
+        Ternary[] rs = family.RaffinateMole;
+        Ternary[] es = family.ExtractMole;
+        double cLo = Collinearity(rs[0], es[0], zt);
+        for (int i = 0; i < rs.Length - 1; i++)
+        {
+            double cHi = Collinearity(rs[i + 1], es[i + 1], zt);
+            if (((cLo <= 0 && cHi >= 0) || (cLo >= 0 && cHi <= 0)) && Lever(rs[i], es[i], zt) is > 0 and < 1)
+            {
+                double t = cLo != cHi ? cLo / (cLo - cHi) : 0;
+                Ternary r = ((1 - t) * rs[i]) + (t * rs[i + 1]);
+                Ternary e = ((1 - t) * es[i]) + (t * es[i + 1]);
+                Span<double> lnK = [SafeLnRatio(e.Solute, r.Solute), SafeLnRatio(e.Diluent, r.Diluent), SafeLnRatio(e.Solvent, r.Solvent)];
+                return TryTwoPhase(state, z, lnK, xa, xb, out beta, ref iterations, substitutionSteps: 1);
+            }
+
+            cLo = cHi;
+        }
+
+        return false;
     }
 
     // The tie line through z among those traced for this temperature: regula falsi (Illinois) on the raffinate diluent
@@ -102,34 +148,87 @@ public abstract partial class ActivityCoefficientModel
             return false;
         }
 
+        if (!SolveAlongFamily(state, family, k, (rb, eb) => Collinearity(System.ToMole(rb), System.ToMole(eb), zt), out Ternary rs0, out Ternary es0))
+        {
+            return false;
+        }
+
+        Ternary r = System.ToMole(rs0);
+        Ternary e = System.ToMole(es0);
+        iterations += 20;
+        beta = Lever(r, e, zt);
+        if (!(beta > 0 && beta < 1))
+        {
+            return false;
+        }
+
+        // Polish to the exact balance from this excellent start; keep the tie line found if that fails.
+        Span<double> lnK = [SafeLnRatio(e.Solute, r.Solute), SafeLnRatio(e.Diluent, r.Diluent), SafeLnRatio(e.Solvent, r.Solvent)];
+        if (TryTwoPhase(state, z, lnK, xa, xb, out double polished, ref iterations, substitutionSteps: 1))
+        {
+            beta = polished;
+            return true;
+        }
+
+        xa[0] = r.Solute;
+        xa[1] = r.Diluent;
+        xa[2] = r.Solvent;
+        xb[0] = e.Solute;
+        xb[1] = e.Diluent;
+        xb[2] = e.Solvent;
+        return true;
+    }
+
+    // Regula falsi (Illinois) on the raffinate diluent fraction between family tie lines k and k + 1 for a root of
+    // g(raffinate, extract) (system basis), each tie line solved by Newton with that diluent fraction held.
+    private bool SolveAlongFamily(ReadOnlySpan<double> state, TieLineFamily family, int k, Func<Ternary, Ternary, double> g, out Ternary raffinate, out Ternary extract)
+    {
+        raffinate = family.Raffinate[k];
+        extract = family.Extract[k];
         double dLo = family.Raffinate[k].Diluent;
         double dHi = family.Raffinate[k + 1].Diluent;
-        double fLo = Collinearity(rs[k], es[k], zt);
-        double fHi = Collinearity(rs[k + 1], es[k + 1], zt);
-        Ternary r = rs[k];
-        Ternary e = es[k];
+        double fLo = g(family.Raffinate[k], family.Extract[k]);
+        double fHi = g(family.Raffinate[k + 1], family.Extract[k + 1]);
+        if (fLo == 0)
+        {
+            return true;
+        }
+
+        if (fHi == 0)
+        {
+            raffinate = family.Raffinate[k + 1];
+            extract = family.Extract[k + 1];
+            return true;
+        }
+
+        if ((fLo < 0) == (fHi < 0))
+        {
+            return false;
+        }
+
         int side = 0;
         for (int it = 0; it < 100; it++)
         {
-            iterations++;
-            double d = fHi != fLo ? dHi - (fHi * (dHi - dLo) / (fHi - fLo)) : 0.5 * (dLo + dHi);
+            double d = dHi - (fHi * (dHi - dLo) / (fHi - fLo));
             if (!(d > Math.Min(dLo, dHi) && d < Math.Max(dLo, dHi)))
             {
                 d = 0.5 * (dLo + dHi);
             }
 
             double t = Math.Clamp((family.Raffinate[k].Diluent - d) / (family.Raffinate[k].Diluent - family.Raffinate[k + 1].Diluent), 0, 1);
-            r = ((1 - t) * rs[k]) + (t * rs[k + 1]);
-            e = ((1 - t) * es[k]) + (t * es[k + 1]);
+            Ternary r = ((1 - t) * family.RaffinateMole[k]) + (t * family.RaffinateMole[k + 1]);
+            Ternary e = ((1 - t) * family.ExtractMole[k]) + (t * family.ExtractMole[k + 1]);
             if (!SolveFixed(state, DiluentIndex, d, pIsRaffinate: true, ref r, ref e))
             {
                 return false;
             }
 
-            double f = Collinearity(r, e, zt);
+            raffinate = System.FromMole(r);
+            extract = System.FromMole(e);
+            double f = g(raffinate, extract);
             if (Math.Abs(f) < 1e-15 || Math.Abs(dHi - dLo) < 1e-15)
             {
-                break;
+                return true;
             }
 
             if ((f < 0) == (fLo < 0))
@@ -156,27 +255,7 @@ public abstract partial class ActivityCoefficientModel
             }
         }
 
-        beta = Lever(r, e, zt);
-        if (!(beta > 0 && beta < 1))
-        {
-            return false;
-        }
-
-        // Polish to the exact balance from this excellent start; keep the tie line found if that fails.
-        Span<double> lnK = [SafeLnRatio(e.Solute, r.Solute), SafeLnRatio(e.Diluent, r.Diluent), SafeLnRatio(e.Solvent, r.Solvent)];
-        if (TryTwoPhase(state, z, lnK, xa, xb, out double polished, ref iterations, substitutionSteps: 1))
-        {
-            beta = polished;
-            return true;
-        }
-
-        xa[0] = r.Solute;
-        xa[1] = r.Diluent;
-        xa[2] = r.Solvent;
-        xb[0] = e.Solute;
-        xb[1] = e.Diluent;
-        xb[2] = e.Solvent;
-        return true;
+        return false;
     }
 
     // Signed distance of z from the line through r and e in the (solute, solvent) plane of mole fractions.
@@ -293,16 +372,10 @@ public abstract partial class ActivityCoefficientModel
                 continue;
             }
 
-            if (ok && length > TrivialDistance)
-            {
-                // Shorter than the step criterion: the plait point is within reach; keep this last one.
-                Add(rGuess, eGuess);
-                plait = true;
-                break;
-            }
-
+            // Tie lines shorter than MinTieLineLength are left out: that close to the plait point the isoactivity
+            // equations are too ill-conditioned to solve reliably from a given solute fraction.
             h *= 0.5;
-            if (h < 1e-9)
+            if (h < 1e-6)
             {
                 plait = Ternary.MaxDifference(raffinateMole[^1], extractMole[^1]) < 0.02;
                 break;

@@ -16,11 +16,15 @@ namespace Tieflow.Core.Equilibrium.Activity;
 /// <para>
 /// Split from a cold start: a tangent-plane-distance stability test (Michelsen 1982) from trial phases rich in each
 /// component finds whether the mixture splits and gives a trial phase; successive substitution of the distribution
-/// ratios with the Rachford-Rice equation for the phase fraction follows, then Newton's method on the mole numbers of
-/// one phase (Jacobian of the activity coefficients by finite differences) polishes to isoactivity within
-/// <see cref="Tolerance"/>. A converged answer whose phases coincide (the trivial solution) is never returned as two
-/// phases. A warm start skips the stability test and starts from the given phases, falling back to a cold start if
-/// that does not give a proper split. The raffinate is the diluent-richer phase.
+/// ratios with the Rachford-Rice equation for the phase fraction follows (with dominant-eigenvalue acceleration every
+/// fifth step), then Newton's method on the mole numbers of one phase (analytic Jacobian where the model has one,
+/// finite differences otherwise; step halving on the residual) polishes to isoactivity within <see cref="Tolerance"/>.
+/// Near the plait point, where substitution crawls and Newton may not converge from its start, the tie lines traced
+/// for the temperature locate the tie line through the mixture. When those tie lines are already traced and
+/// <see cref="ColdStartFromTieLines"/> is set, a cold start begins with Newton from the two traced tie lines that
+/// bracket the mixture instead (same answer, far less work). A converged answer whose phases coincide (the trivial
+/// solution) is never returned as two phases. A warm start skips the stability test and starts from the given phases,
+/// falling back to a cold start if that does not give a proper split. The raffinate is the diluent-richer phase.
 /// </para>
 /// <para>
 /// Tie lines with a given solute fraction at one end are found by Newton's method on isoactivity with that fraction
@@ -33,6 +37,11 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     private const int N = 3;
     private const int StateCapacity = 32;
     private const double TrivialDistance = 1e-6;
+
+    // Tuned on the reference system over its two-phase region: hand over to Newton once substitution changes ln K by
+    // less than this; leave a stability trial once it is proven unstable and changes by less than this.
+    private const double NewtonSwitch = 1e-3;
+    private const double TrialExit = 1e-2;
 
     private volatile TieLineFamily? _family;
 
@@ -60,6 +69,13 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>Iteration limit of each iterative stage (stability test trial, substitution, Newton). Default 200.</summary>
     public int MaxIterations { get; init; } = 200;
+
+    /// <summary>
+    /// Whether a split without a warm start may start from the tie lines already traced for that temperature (by a
+    /// tie-line or solute-limit call, or by an earlier split near the plait point) instead of running the stability
+    /// test first. The answer is the same to the tolerance; only the work differs. Default true.
+    /// </summary>
+    public bool ColdStartFromTieLines { get; init; } = true;
 
     /// <summary>Short model name used in messages (for example "NRTL").</summary>
     private protected abstract string ModelName { get; }
@@ -110,7 +126,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// Tangent-plane-distance stability test of a mixture (fractions on the system's basis) from trial phases rich in
-    /// each component present.
+    /// each component present, and, when tie lines have been traced at this temperature, from the ends of the tie line
+    /// nearest the mixture. A test that finds no negative distance is strong evidence, not proof, of stability: in the
+    /// thin metastable band along the binodal near the plait point the component-rich trial phases can all fall back to
+    /// the mixture.
     /// </summary>
     /// <exception cref="ArgumentException">When the fractions are invalid.</exception>
     public StabilityTestResult TestStability(Ternary overall, double temperatureKelvin)
@@ -163,7 +182,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// The plait point at a temperature, estimated as the middle of the shortest tie line traced from the binary end
-    /// (the two ends then differ by less than about 1e-3 in mole fraction when a plait point exists).
+    /// (its ends differ by a few thousandths in mole fraction when a plait point exists: tracing stops at tie lines
+    /// shorter than 0.001).
     /// </summary>
     /// <exception cref="EquilibriumException">When the diluent and solvent do not split at this temperature.</exception>
     public PlaitPointEstimate EstimatePlaitPoint(double temperatureKelvin)
@@ -184,6 +204,23 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>ln gamma at mole fractions <paramref name="x"/> (zero or more, summing to one) from a prepared state.</summary>
     private protected abstract void LnGammaCore(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma);
+
+    /// <summary>
+    /// ln gamma and its derivatives d ln gamma_i / d n_j (row-major 3 x 3) with respect to the mole numbers of one mole of
+    /// mixture of composition <paramref name="x"/>; false when the model has no analytic derivatives (finite
+    /// differences are used then).
+    /// </summary>
+    private protected virtual bool LnGammaDerivatives(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives) => false;
+
+    /// <summary>For tests: the analytic derivatives at a temperature, or false when the model has none.</summary>
+    internal bool TryLnGammaDerivatives(double temperatureKelvin, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives)
+    {
+        Span<double> state = stackalloc double[StateCapacity];
+        Prepare(temperatureKelvin, state);
+        return LnGammaDerivatives(state, x, lnGamma, derivatives);
+    }
+
+    private bool IsFamilyCached(double temperatureKelvin) => _family is { } f && f.TemperatureKelvin.Equals(temperatureKelvin);
 
     private static bool IsComposition(in Ternary t) =>
         t.Solute >= 0 && t.Diluent >= 0 && t.Solvent >= 0 && double.IsFinite(t.Sum) && t.Sum > 0;
@@ -237,6 +274,12 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> trial = stackalloc double[N];
         Span<double> zCopy = stackalloc double[N];
         z.CopyTo(zCopy);
+        if (useFamily && ColdStartFromTieLines && _family is { } cached && cached.TemperatureKelvin.Equals(temperatureKelvin)
+            && FamilyStart(state, cached, zCopy, xa, xb, out beta, ref iterations))
+        {
+            return ToSplit(overall, xa, xb, beta, iterations);
+        }
+
         bool unstable = FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true);
         if (unstable)
         {
@@ -254,8 +297,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         }
 
         // Near the plait point the trial phases may all fall back to the mixture, and substitution crawls: there the
-        // tie lines traced for this temperature locate the one through the mixture.
-        if (useFamily && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
+        // tie lines traced for this temperature locate the one through the mixture. They are traced for that (a few
+        // milliseconds) when the mixture is known to be unstable; a mixture the trial phases found stable is checked
+        // against them only when they are already there, so that one-phase splits at ever new temperatures stay cheap.
+        if (useFamily && (unstable || IsFamilyCached(temperatureKelvin)) && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
         {
             return ToSplit(overall, xa, xb, beta, iterations);
         }
@@ -271,19 +316,17 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     }
 
     // Near the plait point the trial phases rich in one component can all fall back to the mixture itself although
-    // it splits. The traced tie lines then give two more trial phases: the ends of the tie line nearest the mixture.
+    // it splits. The tie lines traced for this temperature (when there are) then give two more trial phases: the ends
+    // of the tie line nearest the mixture.
     private bool FindUnstableFromFamily(ReadOnlySpan<double> state, double temperatureKelvin, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations)
     {
         minTm = 0;
-        TieLineFamily family;
-        try
+        if (!IsFamilyCached(temperatureKelvin))
         {
-            family = Family(temperatureKelvin);
+            return false;
         }
-        catch (EquilibriumException)
-        {
-            return false; // no tie lines at this temperature: nothing more to try
-        }
+
+        TieLineFamily family = Family(temperatureKelvin);
 
         var zt = new Ternary(z[0], z[1], z[2]);
         double bestDistance = double.PositiveInfinity;
@@ -433,7 +476,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
 
                 // Converged, or already proven unstable with a trial phase good enough to start the split from.
-                if (change < 1e-10 || (stopAtFirst && tm < -1e-6 && change < 1e-4))
+                if (change < 1e-10 || (stopAtFirst && tm < -1e-6 && change < TrialExit))
                 {
                     break;
                 }
@@ -470,7 +513,6 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> lgb = stackalloc double[N];
         Span<double> previousStep = stackalloc double[N];
         Span<double> stepK = stackalloc double[N];
-        Span<double> savedK = stackalloc double[N];
         beta = 0.5;
         double change = double.PositiveInfinity;
         int done = 0;
@@ -538,7 +580,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
 
                 stepK.CopyTo(previousStep);
-                if (!newtonTried && change < 1e-6 && beta > 0 && beta < 1)
+                if (!newtonTried && change < NewtonSwitch && done >= 2 && beta > 0 && beta < 1)
                 {
                     done++;
                     break;
@@ -552,18 +594,9 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
             newtonTried = true;
             PhasesFromK(z, lnK, beta, xa, xb);
-            lnK.CopyTo(savedK);
-            if (Newton(state, z, xa, xb, ref beta, ref iterations))
-            {
-                return true;
-            }
 
-            // Newton did not make it: carry on substituting from where it started.
-            savedK.CopyTo(lnK);
-            if (done >= substitutionSteps)
-            {
-                substitutionSteps = Math.Min(done + MaxIterations, substitutionSteps + MaxIterations);
-            }
+            // When Newton does not make it the caller falls back on the traced tie lines.
+            return Newton(state, z, xa, xb, ref beta, ref iterations);
         }
     }
 
@@ -731,11 +764,31 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> lg = stackalloc double[N];
         Span<double> lgp = stackalloc double[N];
         Span<double> np = stackalloc double[N];
-        LnGammaCore(state, x, lg);
+        Span<double> dn = stackalloc double[N * N];
+        bool analytic = LnGammaDerivatives(state, x, lg, dn);
+        if (!analytic)
+        {
+            LnGammaCore(state, x, lg);
+        }
+
         for (int i = 0; i < N; i++)
         {
             double mu = z[i] > 0 ? Math.Log(x[i]) + lg[i] : 0;
             f[i] = accumulate ? f[i] + (sign * mu) : sign * mu;
+        }
+
+        if (analytic)
+        {
+            for (int i = 0; i < N; i++)
+            {
+                for (int j = 0; j < N; j++)
+                {
+                    double ideal = (i == j && z[i] > 0 ? 1 / n[i] : 0) - (1 / total);
+                    jac[(i * N) + j] = z[j] > 0 ? ideal + (dn[(i * N) + j] / total) : 0;
+                }
+            }
+
+            return true;
         }
 
         // d ln gamma_i / d n_j by forward differences of the normalised composition.
