@@ -92,6 +92,19 @@ public sealed class CascadeSolverEdgeTests
     }
 
     [Fact]
+    public void TrySolveCountercurrent_IterationLimit_ReturnsFalseWithLastIterate()
+    {
+        var solver = new CascadeSolver(Model("ipe"), 293.15, new CascadeSolverOptions { MaxIterations = 1 });
+        var feed = new MaterialStream(200, new Ternary(0.3, 0.7, 0));
+        var ether = new MaterialStream(600, new Ternary(0, 0, 1));
+        Assert.False(solver.TrySolveCountercurrent(feed, ether, [1.0, 1.0, 1.0, 1.0], out CascadeResult result));
+        Assert.Equal(CascadeStatus.IterationLimit, result.Status);
+        Assert.Equal(4, result.Stages.Count);
+        var ex = Assert.Throws<CascadeException>(() => solver.SolveCountercurrent(feed, ether, 4, 1.0));
+        Assert.Contains("did not converge in 1 iterations", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void SolveCountercurrent_FeedAndSolventOnePhase_ThrowsSayingRaiseTheSolvent()
     {
         // A little ether dissolves in the acid-water feed: one liquid phase.
