@@ -464,10 +464,51 @@ public sealed class CascadeDesign
 
         double hi = Math.Min(feed.Composition.Solute, _envelope.RaffinateMax);
         double fHi = Excess(hi);
-        for (int i = 0; double.IsNaN(fHi) && i < 60; i++)
+        if (double.IsNaN(fHi))
         {
-            hi *= 0.7;
+            // No overall balance with a raffinate that rich: find the richest raffinate that has one.
+            double invalid = hi, valid = double.NaN;
+            for (int k = 1; k <= 64 && double.IsNaN(valid); k++)
+            {
+                double x = hi * (1 - (k / 64.0));
+                if (!double.IsNaN(Excess(x)))
+                {
+                    valid = x;
+                }
+                else
+                {
+                    invalid = x;
+                }
+            }
+
+            if (double.IsNaN(valid))
+            {
+                xt = double.NaN;
+                return false;
+            }
+
+            for (int i = 0; i < 50; i++)
+            {
+                double mid = 0.5 * (valid + invalid);
+                if (double.IsNaN(Excess(mid)))
+                {
+                    invalid = mid;
+                }
+                else
+                {
+                    valid = mid;
+                }
+            }
+
+            hi = valid;
             fHi = Excess(hi);
+        }
+
+        if (fHi >= 0)
+        {
+            // Even the richest final raffinate the balance allows recovers at least this much: the target is met there.
+            xt = hi;
+            return true;
         }
 
         double lo = 1e-12 * hi;

@@ -95,8 +95,11 @@ public sealed class CascadeSolver
 
     /// <summary>
     /// Counter-current cascade: feed enters stage 1 and the final raffinate leaves stage N; solvent enters stage N and
-    /// the extract leaves stage 1. Newton's method on the whole profile from the equilibrium split of feed plus solvent,
-    /// with projected, halved steps, falling back on stage-by-stage sweeps when Newton stalls.
+    /// the extract leaves stage 1. Newton's method on the whole profile (banded, so cost grows linearly with the stage
+    /// count) from the equilibrium split of feed plus solvent, with projected, halved steps, falling back on
+    /// stage-by-stage sweeps when Newton stalls. On activity models (see <see cref="CascadeSolverOptions.UseEnvelopeTable"/>)
+    /// the first solve builds a spline table of the envelope (about 160 tie lines); later solves start from the answer
+    /// on that table and take its Jacobian, the residuals always from the model.
     /// </summary>
     /// <param name="feed">Feed to stage 1; flow above zero.</param>
     /// <param name="solvent">Solvent to stage N; flow above zero.</param>

@@ -6,7 +6,12 @@ namespace Tieflow.Core.Cascade;
 /// <summary>The two branches of a model's phase envelope at one temperature, as the cascade solvers use them.</summary>
 internal sealed class Envelope : IEnvelopeBranches
 {
+    /// <summary>Below this solute fraction the branches are interpolated linearly from the binary end (see <see cref="Raffinate"/>).</summary>
+    private const double Trace = 1e-10;
+
     private readonly Lazy<EnvelopeTable?> _table;
+    private readonly Lazy<(TieLine AtZero, TieLine AtTrace)> _raffinateEnd;
+    private readonly Lazy<(TieLine AtZero, TieLine AtTrace)> _extractEnd;
 
     public Envelope(IPhaseEquilibrium model, double temperatureKelvin)
     {
@@ -18,6 +23,8 @@ internal sealed class Envelope : IEnvelopeBranches
         RaffinateMax = Math.Min(limits.Raffinate, 1 - 1e-9);
         ExtractMax = Math.Min(limits.Extract, 1 - 1e-9);
         _table = new Lazy<EnvelopeTable?>(() => EnvelopeTable.TryBuild(this));
+        _raffinateEnd = new(() => (model.TieLineFromRaffinate(0, temperatureKelvin), model.TieLineFromRaffinate(Trace, temperatureKelvin)));
+        _extractEnd = new(() => (model.TieLineFromExtract(0, temperatureKelvin), model.TieLineFromExtract(Trace, temperatureKelvin)));
     }
 
     /// <summary>The spline stand-in of this envelope, built at first use; null when it cannot be built.</summary>
@@ -31,9 +38,36 @@ internal sealed class Envelope : IEnvelopeBranches
 
     public double ExtractMax { get; }
 
-    public Ternary Raffinate(double x) => Model.TieLineFromRaffinate(Math.Clamp(x, 0, RaffinateMax), TemperatureKelvin).Raffinate;
+    /// <summary>
+    /// The raffinate-branch point with solute fraction x. Solute traces below 1e-10 (the solvent end of a long cascade
+    /// reaches 1e-20) are interpolated linearly between the binary tie line and the one at 1e-10, an error of order
+    /// x squared: iterative models need not converge on fractions that small.
+    /// </summary>
+    public Ternary Raffinate(double x)
+    {
+        x = Math.Clamp(x, 0, RaffinateMax);
+        if (x > 0 && x < Trace)
+        {
+            (TieLine zero, TieLine trace) = _raffinateEnd.Value;
+            return zero.Raffinate + ((x / Trace) * (trace.Raffinate - zero.Raffinate));
+        }
 
-    public TieLine FromExtract(double y) => Model.TieLineFromExtract(Math.Clamp(y, 0, ExtractMax), TemperatureKelvin);
+        return Model.TieLineFromRaffinate(x, TemperatureKelvin).Raffinate;
+    }
+
+    /// <summary>The tie line whose extract has solute fraction y (traces below 1e-10 interpolated as for <see cref="Raffinate"/>).</summary>
+    public TieLine FromExtract(double y)
+    {
+        y = Math.Clamp(y, 0, ExtractMax);
+        if (y > 0 && y < Trace)
+        {
+            (TieLine zero, TieLine trace) = _extractEnd.Value;
+            double f = y / Trace;
+            return new TieLine(zero.Raffinate + (f * (trace.Raffinate - zero.Raffinate)), zero.Extract + (f * (trace.Extract - zero.Extract)));
+        }
+
+        return Model.TieLineFromExtract(y, TemperatureKelvin);
+    }
 
     public PhaseSplit Split(Ternary overall) => Model.Split(overall, TemperatureKelvin);
 

@@ -80,4 +80,17 @@ public sealed class CascadeDesignPropertyTests
             return (met && consistent).Label($"stages {result.Stages} ({result.FractionalStages:F4}), raffinate {result.Cascade.Raffinate.Composition.Solute:G6}, recovery {result.Cascade.Recovery:G6}");
         });
     }
+
+    [Fact]
+    public void FindMinimumSolvent_HigherRecovery_NeedsMoreSolvent()
+    {
+        // Water - ethanol - benzene UNIQUAC (ReferenceUniquac), mass basis: benzene takes little ethanol (K about 0.1),
+        // so low recoveries already ask for a final raffinate near the feed's content.
+        var design = new CascadeDesign(ReferenceUniquac.WaterEthanolBenzene(CompositionBasis.Mass), 298.15);
+        var feed = new MaterialStream(100, new Ternary(0.15, 0.85, 0));
+        double[] minimum = [.. new[] { 0.1, 0.3 }.Select(r => design.FindMinimumSolvent(feed, PureSolvent, DesignTarget.Recovery(r)).MinimumSolventFlow)];
+        Assert.True(minimum[0] < minimum[1], $"minimum solvent {string.Join(", ", minimum)}");
+        DesignResult result = design.FindStages(feed, new MaterialStream(1.2 * minimum[1], PureSolvent), DesignTarget.Recovery(0.3));
+        Assert.True(result.Cascade.Recovery >= 0.3 - 1e-9);
+    }
 }

@@ -196,5 +196,37 @@ public sealed class CascadePropertyTests
         });
     }
 
+    [FsCheck.Xunit.Property(MaxTest = 30, Replay = "(163,167)")]
+    public Property SolveCountercurrent_UniquacMassBasis_ClosesBalancesAndHoldsEfficiencies()
+    {
+        // Water - ethanol - benzene UNIQUAC (ReferenceUniquac) at 25 C on a mass basis: the model converts internally.
+        var cases =
+            from share in Gen.Choose(5, 80)
+            from ratio in Gen.Choose(5, 30)
+            from stages in Gen.Choose(1, 6)
+            from effs in Gen.ArrayOf(Gen.Choose(30, 100), stages)
+            select (share / 100.0, ratio / 10.0, effs.Select(e => e / 100.0).ToArray());
+        return Prop.ForAll(cases.ToArbitrary(), c =>
+        {
+            (double share, double ratio, double[] effs) = c;
+            double solute = share * Uniquac.SoluteLimits(298.15).Raffinate;
+            var feed = new MaterialStream(100, new Ternary(solute, 1 - solute, 0));
+            var solvent = new MaterialStream(100 * ratio, new Ternary(0, 0, 1));
+            CascadeResult r = new CascadeSolver(Uniquac, 298.15).SolveCountercurrent(feed, solvent, effs);
+            double worstMurphree = 0;
+            for (int k = 0; k < r.Stages.Count; k++)
+            {
+                double xIn = k == 0 ? solute : r.Stages[k - 1].Raffinate.Composition.Solute;
+                double expected = xIn - (effs[k] * (xIn - r.Stages[k].EquilibriumRaffinateSoluteFraction));
+                worstMurphree = Math.Max(worstMurphree, Math.Abs(r.Stages[k].Raffinate.Composition.Solute - expected));
+            }
+
+            double imbalance = WorstStageImbalance(r, feed, solvent);
+            return (imbalance <= 1e-9 && worstMurphree <= 1e-9).Label($"imbalance {imbalance:G3}, Murphree {worstMurphree:G3}");
+        });
+    }
+
     private static readonly IPhaseEquilibrium Nrtl = ReferenceNrtl.Model();
+
+    private static readonly IPhaseEquilibrium Uniquac = ReferenceUniquac.WaterEthanolBenzene(CompositionBasis.Mass);
 }

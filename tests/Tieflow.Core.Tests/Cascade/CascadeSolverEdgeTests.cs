@@ -79,6 +79,32 @@ public sealed class CascadeSolverEdgeTests
     }
 
     [Fact]
+    public void SolveCountercurrent_LongNrtlCascade_ReachesSoluteTracesAndConverges()
+    {
+        // 39 equilibrium stages leave extract solute fractions near 1e-13 at the solvent end, below what the model's
+        // own tie-line iteration resolves; the envelope interpolates such traces from the binary tie line.
+        var feed = new MaterialStream(100, new Ternary(0.08, 0.92, 0));
+        var solvent = new MaterialStream(129, new Ternary(0, 0, 1));
+        CascadeResult r = new CascadeSolver(Model("nrtl"), 343).SolveCountercurrent(feed, solvent, 39, 1.0);
+        Assert.Equal(CascadeStatus.Converged, r.Status);
+        Assert.True(r.BalanceResidual <= 1e-9);
+        Assert.True(r.Raffinate.Composition.Solute < 1e-9, $"raffinate {r.Raffinate.Composition.Solute}");
+    }
+
+    [Fact]
+    public void TrySolveCountercurrent_IterationLimit_ReturnsFalseWithLastIterate()
+    {
+        var solver = new CascadeSolver(Model("ipe"), 293.15, new CascadeSolverOptions { MaxIterations = 1 });
+        var feed = new MaterialStream(200, new Ternary(0.3, 0.7, 0));
+        var ether = new MaterialStream(600, new Ternary(0, 0, 1));
+        Assert.False(solver.TrySolveCountercurrent(feed, ether, [1.0, 1.0, 1.0, 1.0], out CascadeResult result));
+        Assert.Equal(CascadeStatus.IterationLimit, result.Status);
+        Assert.Equal(4, result.Stages.Count);
+        var ex = Assert.Throws<CascadeException>(() => solver.SolveCountercurrent(feed, ether, 4, 1.0));
+        Assert.Contains("did not converge in 1 iterations", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void SolveCountercurrent_FeedAndSolventOnePhase_ThrowsSayingRaiseTheSolvent()
     {
         // A little ether dissolves in the acid-water feed: one liquid phase.

@@ -33,16 +33,17 @@ public sealed class IsopropylEtherExampleTests
     }
 
     [Fact]
-    public void CountStages_PublishedExample_ExtractAboutEightPercentAcid()
+    public void FindStages_PublishedExample_ExtractAboutEightPercentAcid()
     {
-        // The overall balance at the target: 4 stages overshoot it, so check the balance the design is built on.
         var design = new CascadeDesign(Model(), 293.15);
-        double fractional = design.CountStages(Feed, Ether.Composition, 600, 0.04, [1.0]);
         DesignResult result = design.FindStages(Feed, Ether, DesignTarget.RaffinateFraction(0.04));
 
-        // The cascade of the whole number of stages: extract close to the published 8 wt% acid.
+        // The cascade of the whole number of stages (4, a little better than the target): extract near the published 8 wt%.
         Assert.InRange(result.Cascade.Extract.Composition.Solute, 0.08 - 0.01, 0.08 + 0.01);
-        Assert.InRange(fractional, 3.4, 4.0);
+
+        // The stage count of the balance at the target itself, against the 3.66 of piecewise-linear interpolation
+        // (README section 2: other interpolation schemes move it by 0.1 to 0.3).
+        Assert.InRange(design.CountStages(Feed, Ether.Composition, 600, 0.04, [1.0]), 3.66 - 0.3, 3.66 + 0.3);
     }
 
     [Fact]

@@ -74,4 +74,14 @@ public sealed class KremserTests
         CascadeResult result = solver.SolveCountercurrent(TestSystems.CarrierFeed(50, 0.10), TestSystems.SolventStream(37.5), 5, 1.0);
         Assert.True(Math.Abs(TestSystems.RaffinateRatio(result.Raffinate) - (0.10 * CountercurrentUnextracted(1.125, 5))) <= 1e-7);
     }
+
+    [Fact]
+    public void SolveCountercurrent_LinearTableIsotherm_MatchesKremser()
+    {
+        // Points on Y = 1.5 X: the monotone cubic reproduces a straight line, so the table path meets Kremser as well.
+        var model = new Tieflow.Core.Equilibrium.Distribution.DistributionModel(
+            TestSystems.Immiscible(), TestSystems.Temperature, Tieflow.Core.Equilibrium.Distribution.DistributionIsotherm.Table([(0.01, 0.015), (0.04, 0.06), (0.08, 0.12), (0.12, 0.18)]));
+        CascadeResult result = new CascadeSolver(model, TestSystems.Temperature).SolveCountercurrent(TestSystems.CarrierFeed(1000, 0.10), TestSystems.SolventStream(750), 5, 1.0);
+        Assert.True(Math.Abs(TestSystems.RaffinateRatio(result.Raffinate) - 0.012168) < 5e-7, $"X_N {TestSystems.RaffinateRatio(result.Raffinate)}");
+    }
 }
