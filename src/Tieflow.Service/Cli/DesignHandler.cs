@@ -33,7 +33,15 @@ internal static class DesignHandler
                     w.WriteNull("fractionalStages");
                     w.WriteNumber("solventFlow", JsonOutput.Round(minimum.MinimumSolventFlow));
                     w.WriteNumber("minimumSolventFlow", JsonOutput.Round(minimum.MinimumSolventFlow));
-                    w.WriteNumber("pinchRaffinateSoluteFraction", JsonOutput.Round(minimum.PinchRaffinateSoluteFraction));
+                    if (double.IsFinite(minimum.PinchRaffinateSoluteFraction))
+                    {
+                        w.WriteNumber("pinchRaffinateSoluteFraction", JsonOutput.Round(minimum.PinchRaffinateSoluteFraction));
+                    }
+                    else
+                    {
+                        // No pinch: the limit is the overall balance (all the solute the solvent can take at the target).
+                        w.WriteNull("pinchRaffinateSoluteFraction");
+                    }
                     w.WriteNull("cascade");
                     JsonOutput.WriteNotice(w);
                     w.WriteEndObject();
@@ -42,7 +50,9 @@ internal static class DesignHandler
             }
 
             context.Console.WriteLine($"Minimum solvent flow for {target} at {c.TemperatureKelvin:0.##} K, system '{c.System.Name}': {minimum.MinimumSolventFlow:G6} {unit}");
-            context.Console.WriteLine($"At that flow a pinch (infinitely many stages) forms where the raffinate holds {minimum.PinchRaffinateSoluteFraction:G5} {c.System.System.Solute.Id}. Real cascades need more solvent than this.");
+            context.Console.WriteLine(double.IsFinite(minimum.PinchRaffinateSoluteFraction)
+                ? $"At that flow a pinch (infinitely many stages) forms where the raffinate holds {minimum.PinchRaffinateSoluteFraction:G5} {c.System.System.Solute.Id}. Real cascades need more solvent than this."
+                : "At that flow the overall balance, not a pinch, sets the limit: the extract leaving stage 1 is in equilibrium with the feed. Real cascades need more solvent than this.");
             TextOutput.WriteNotice(context.Console);
             return ExitCodes.Success;
         }

@@ -19,7 +19,7 @@ namespace Tieflow.Core.Equilibrium.Distribution;
 public sealed class DistributionModel : IPhaseEquilibrium
 {
     private readonly double _k;
-    private readonly MonotoneCubic? _curve;
+    private readonly IsothermCurve? _curve;
 
     /// <summary>Creates the model.</summary>
     /// <param name="system">The components and basis; X and Y are ratios on this basis.</param>
@@ -56,7 +56,7 @@ public sealed class DistributionModel : IPhaseEquilibrium
             y[i + offset] = points[i].Y;
         }
 
-        _curve = new MonotoneCubic(x, y);
+        _curve = new IsothermCurve(x, y);
     }
 
     /// <inheritdoc />

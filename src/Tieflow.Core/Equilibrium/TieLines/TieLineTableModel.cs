@@ -1,5 +1,6 @@
 using System.Globalization;
 using Tieflow.Core.Chemistry;
+using Tieflow.Core.Numerics;
 
 namespace Tieflow.Core.Equilibrium.TieLines;
 

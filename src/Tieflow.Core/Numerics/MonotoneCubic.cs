@@ -1,4 +1,4 @@
-namespace Tieflow.Core.Equilibrium.TieLines;
+namespace Tieflow.Core.Numerics;
 
 /// <summary>
 /// Piecewise cubic Hermite interpolation with Fritsch-Carlson derivatives (the shape-preserving "PCHIP" choice:
