@@ -105,14 +105,27 @@ internal sealed partial class ServerEngine : IDisposable
         lock (_sync)
         {
             _connections.Remove(connection);
+            List<ServerSession>? abandoned = null;
             foreach (var session in _sessionsByToken.Values)
             {
-                if (ReferenceEquals(session.Channel, connection))
+                if (!ReferenceEquals(session.Channel, connection))
                 {
-                    // The channel is gone: its parked requests cannot be answered any more. The session waits for
-                    // re-activation on a new channel until it times out.
-                    session.FailParked(StatusCodes.BadSecureChannelClosed, connection);
+                    continue;
                 }
+                if (!session.Activated)
+                {
+                    // Never activated: it cannot be resumed, and keeping it would let dropped connections use up the
+                    // session limit.
+                    (abandoned ??= []).Add(session);
+                    continue;
+                }
+                // The channel is gone: its parked requests cannot be answered any more. The session waits for
+                // re-activation on a new channel until it times out.
+                session.FailParked(StatusCodes.BadSecureChannelClosed, connection);
+            }
+            foreach (var session in abandoned ?? [])
+            {
+                RemoveSession(session, StatusCodes.BadSessionClosed);
             }
         }
     }
