@@ -194,16 +194,23 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
     /// <see cref="ServiceResultException"/> for a ServiceFault, a Bad service result, a timeout (BadRequestTimeout) or
     /// a lost connection; <see cref="InvalidOperationException"/> for a request the read-only client may not send.
     /// </summary>
-    public async Task<TResponse> SendAsync<TResponse>(IServiceRequest request, TimeSpan timeout, CancellationToken cancellationToken)
+    /// <param name="request">The request, its header filled.</param>
+    /// <param name="timeout">Local timeout.</param>
+    /// <param name="cancellationToken">Cancels the wait.</param>
+    /// <param name="completeOnReceiveThread">
+    /// Continue the caller on the receive loop, so that responses are handled in the order they arrived (the publish
+    /// loop needs this for sequence numbers). The caller must not block before its first await.
+    /// </param>
+    public async Task<TResponse> SendAsync<TResponse>(IServiceRequest request, TimeSpan timeout, CancellationToken cancellationToken, bool completeOnReceiveThread = false)
         where TResponse : class, IServiceResponse
     {
-        var message = await SendCoreAsync(TcpMessageType.Message, request, timeout, cancellationToken).ConfigureAwait(false);
+        var message = await SendCoreAsync(TcpMessageType.Message, request, timeout, cancellationToken, completeOnReceiveThread).ConfigureAwait(false);
         return DecodeResponse<TResponse>(message, ServiceName(request));
     }
 
     private static string ServiceName(IEncodeable request) => request.GetType().Name.Replace("Request", string.Empty, StringComparison.Ordinal);
 
-    private async Task<ReceivedMessage> SendCoreAsync(uint messageType, IServiceRequest request, TimeSpan timeout, CancellationToken cancellationToken)
+    private async Task<ReceivedMessage> SendCoreAsync(uint messageType, IServiceRequest request, TimeSpan timeout, CancellationToken cancellationToken, bool inline = false)
     {
         if (!ClientServices.AllowedRequestIds.Contains(request.BinaryEncodingId))
         {
@@ -217,7 +224,7 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
 
         var body = MessageCodec.Encode(request, new EncodingLimits { MaxMessageSize = _settings.Limits.MaxMessageSize });
         var requestId = Interlocked.Increment(ref _lastRequestId);
-        var tcs = new TaskCompletionSource<ReceivedMessage>(TaskCreationOptions.RunContinuationsAsynchronously);
+        var tcs = new TaskCompletionSource<ReceivedMessage>(inline ? TaskCreationOptions.None : TaskCreationOptions.RunContinuationsAsynchronously);
         _pending[requestId] = tcs;
         try
         {
