@@ -39,6 +39,12 @@ internal sealed class LoopbackServer : IAsyncDisposable
     /// <summary>Answers a request; null parks it.</summary>
     public Func<IServiceRequest, IServiceResponse?> Handler { get; set; } = _ => null;
 
+    /// <summary>
+    /// When set, used instead of <see cref="Handler"/>: gets the request and a function that answers it later (for
+    /// parked Publish requests); returns a response to answer at once, or null.
+    /// </summary>
+    public Func<IServiceRequest, Func<IServiceResponse, Task>, IServiceResponse?>? DeferringHandler { get; set; }
+
     /// <summary>Every request received, in order (OPN included).</summary>
     public List<IServiceRequest> Received { get; } = [];
 
@@ -177,7 +183,14 @@ internal sealed class LoopbackServer : IAsyncDisposable
                         continue;
                     }
 
-                    var answer = server.Handler(request);
+                    var requestId = message.RequestId;
+                    var answer = server.DeferringHandler is { } deferring
+                        ? deferring(request, r =>
+                        {
+                            r.ResponseHeader.RequestHandle = request.RequestHeader.RequestHandle;
+                            return SendAsync(stream, TcpMessageType.Message, requestId, r);
+                        })
+                        : server.Handler(request);
                     if (answer is not null)
                     {
                         answer.ResponseHeader.RequestHandle = request.RequestHeader.RequestHandle;

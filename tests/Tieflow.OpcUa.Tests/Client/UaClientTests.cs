@@ -1,0 +1,168 @@
+using Tieflow.OpcUa.Client;
+using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Server;
+using SubscriptionSettings = Tieflow.OpcUa.Client.SubscriptionSettings;
+
+namespace Tieflow.OpcUa.Tests.Client;
+
+/// <summary>Our client end to end against our in-process server (the node-opcua peer is in the Interop tests).</summary>
+public sealed class UaClientTests : IAsyncLifetime
+{
+    private static readonly TimeSpan Wait = TimeSpan.FromSeconds(10);
+    private UaServer _server = null!;
+    private NodeId _flow;
+    private NodeId _tags;
+
+    private static UaServer NewServer(int port) =>
+        new(new UaServerOptions { Port = port, ResourcePath = "/sim", NamespaceUri = "urn:test:plant", Users = new Dictionary<string, string> { ["operator"] = "s3cret-Pw" } });
+
+    private void Populate()
+    {
+        var plant = _server.AddFolder(UaServer.ObjectsFolder, "Plant");
+        var unit = _server.AddObject(plant, "Unit1");
+        _flow = _server.AddVariable(unit, "Flow", Variant.From(1.0));
+        _tags = _server.AddFolder(plant, "Tags");
+        for (var i = 0; i < 120; i++)
+        {
+            _server.AddVariable(_tags, $"Tag{i:000}", Variant.From((double)i));
+        }
+    }
+
+    public async Task InitializeAsync()
+    {
+        _server = NewServer(0);
+        Populate();
+        await _server.StartAsync();
+    }
+
+    public async Task DisposeAsync() => await _server.DisposeAsync();
+
+    private UaClientOptions Options(UaUserIdentity? identity = null) => new()
+    {
+        EndpointUrl = new Uri($"opc.tcp://127.0.0.1:{_server.Port}/sim"),
+        Identity = identity ?? UaUserIdentity.Anonymous,
+        RequestTimeout = TimeSpan.FromSeconds(5),
+        ReconnectMinDelay = TimeSpan.FromMilliseconds(100),
+        ReconnectMaxDelay = TimeSpan.FromMilliseconds(500),
+        KeepAliveMargin = TimeSpan.FromMilliseconds(500),
+    };
+
+    [Fact]
+    public async Task ConnectAsync_OurServer_ReadsNamespacesBrowsesWithContinuationTranslatesAndReads()
+    {
+        await using var client = new UaClient(Options());
+        await client.ConnectAsync();
+        Assert.Equal(UaConnectionState.Connected, client.State);
+        Assert.Contains("urn:test:plant", client.NamespaceUris);
+
+        var tags = await client.BrowseAsync(_tags, maxReferencesPerCall: 25);
+        Assert.Equal(120, tags.Count(r => r.NodeClass == NodeClass.Variable));
+
+        var paths = await client.TranslateAsync(["/Objects/2:Plant/2:Unit1/2:Flow", "/Objects/2:Plant/2:Nothing"]);
+        Assert.Equal(_flow, paths[0].Targets.Single().NodeId);
+        Assert.True(paths[1].Status.IsBad);
+
+        var values = await client.ReadAsync([_flow, NodeId.Parse("ns=2;s=Nope")]);
+        Assert.Equal(1.0, (double)values[0].Value.Value!, 12);
+        Assert.Equal(StatusCodes.BadNodeIdUnknown, values[1].Status);
+    }
+
+    [Fact]
+    public async Task SubscribeAsync_ValueChanges_ArriveWithStatusAndSourceTimeUnchanged()
+    {
+        await using var client = new UaClient(Options());
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(100), MaxKeepAliveCount = 5 },
+            [new MonitoredNode { Node = ExpandedNodeId.Parse("nsu=urn:test:plant;s=Plant.Unit1.Flow"), Key = "flow", SamplingInterval = TimeSpan.FromMilliseconds(50) }]);
+        Assert.Equal(StatusCodes.Good, subscription.Items.Single().Status);
+
+        var first = await NextDataAsync(subscription);
+        Assert.Equal(1.0, (double)first.Value.Value!, 12);
+
+        var sourceTime = new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc);
+        _server.UpdateValue(_flow, Variant.From(12.5), StatusCodes.BadSensorFailure, sourceTime);
+        var change = await NextDataAsync(subscription);
+        Assert.Equal("flow", change.Key);
+        Assert.Equal(12.5, (double)change.Value.Value!, 12);
+        Assert.Equal(StatusCodes.BadSensorFailure, change.Status);
+        Assert.Equal(sourceTime, change.SourceTime);
+    }
+
+    [Fact]
+    public async Task ConnectAsync_PlainUserNameOnNoneChannel_Accepted()
+    {
+        await using var client = new UaClient(Options(UaUserIdentity.FromUserName("operator", "s3cret-Pw")));
+        await client.ConnectAsync();
+        Assert.Equal(UaConnectionState.Connected, client.State);
+    }
+
+    [Fact]
+    public async Task ConnectAsync_WrongPassword_BadUserAccessDeniedWithoutThePassword()
+    {
+        await using var client = new UaClient(Options(UaUserIdentity.FromUserName("operator", "wrong-Secret-42")));
+        var ex = await Assert.ThrowsAsync<ServiceResultException>(() => client.ConnectAsync());
+        Assert.Equal(StatusCodes.BadUserAccessDenied, ex.Status);
+        Assert.DoesNotContain("wrong-Secret-42", ex.ToString(), StringComparison.Ordinal);
+        Assert.Contains("operator", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task Reconnect_ServerRestartedOnSamePort_NewSessionGapReportedNotificationsResume()
+    {
+        var states = new List<UaConnectionState>();
+        await using var client = new UaClient(Options());
+        client.StateChanged += (_, e) =>
+        {
+            lock (states)
+            {
+                states.Add(e.State);
+            }
+        };
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(100), MaxKeepAliveCount = 5 },
+            [new MonitoredNode { Node = _flow, Key = "flow" }]);
+        await NextDataAsync(subscription);
+
+        var port = _server.Port;
+        await _server.StopAsync();
+        await _server.DisposeAsync();
+        _server = NewServer(port);
+        Populate();
+        await _server.StartAsync();
+        var back = DateTime.UtcNow;
+
+        var gap = await NextAsync<UaDataGap>(subscription);
+        Assert.True(gap.To >= gap.From);
+        _server.UpdateValue(_flow, Variant.From(7.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
+        UaDataChange change;
+        do
+        {
+            change = await NextDataAsync(subscription);
+        }
+        while (Math.Abs((double)change.Value.Value! - 7.0) > 1e-12);
+
+        Assert.True(DateTime.UtcNow - back < Wait, "notifications resumed within 10 s of the server being back");
+        Assert.Equal(1, client.ReconnectCount);
+        lock (states)
+        {
+            Assert.Contains(UaConnectionState.Reconnecting, states);
+            Assert.Equal(UaConnectionState.Connected, states[^1]);
+        }
+    }
+
+    private static async Task<UaDataChange> NextDataAsync(UaSubscription subscription) => await NextAsync<UaDataChange>(subscription);
+
+    private static async Task<T> NextAsync<T>(UaSubscription subscription)
+        where T : UaSubscriptionEvent
+    {
+        using var cts = new CancellationTokenSource(Wait);
+        while (true)
+        {
+            var e = await subscription.Events.ReadAsync(cts.Token);
+            if (e is T t)
+            {
+                return t;
+            }
+        }
+    }
+}
