@@ -383,6 +383,11 @@ public sealed class UaServerTests : IAsyncLifetime
         _time.Advance(TimeSpan.FromSeconds(1));
         _ = await client.CallAsync<PublishResponse>(new PublishRequest());
         await client.SendRawAsync(client.MessageChunk(client.EncodeRequest(new PublishRequest())));
+        for (var i = 0; i < 500 && _server.ParkedPublishCount == 0; i++)
+        {
+            await Task.Delay(10);
+        }
+        Assert.Equal(1, _server.ParkedPublishCount);
 
         await _server.StopAsync();
         var response = await client.ReadResponseAsync();
@@ -427,7 +432,7 @@ public sealed class UaServerTests : IAsyncLifetime
     {
         await client.SendRawAsync(client.MessageChunk(client.EncodeRequest(new PublishRequest { SubscriptionAcknowledgements = acks })));
         // Let the server park the request before the clock moves.
-        await WaitUntilAsync(() => true);
+        await WaitUntilAsync(() => _server.ParkedPublishCount > 0);
         for (var elapsed = TimeSpan.Zero; elapsed < advance; elapsed += TimeSpan.FromMilliseconds(100))
         {
             await Task.Delay(20);
