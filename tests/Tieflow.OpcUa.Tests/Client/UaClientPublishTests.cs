@@ -160,6 +160,20 @@ public sealed class UaClientPublishTests
     }
 
     [Fact]
+    public async Task Watchdog_NoSubscriptions_ReadsServerStateToKeepTheSessionAlive()
+    {
+        await using var peer = new ScriptedSessionServer();
+        await using var client = new UaClient(Options(peer) with { SessionTimeout = TimeSpan.FromSeconds(1.2) });
+        await client.ConnectAsync();
+        for (var i = 0; i < 300 && !peer.Server.Received.OfType<ReadRequest>().Any(r => r.NodesToRead[0].NodeId == WellKnownNodes.ServerStatusState); i++)
+        {
+            await Task.Delay(10);
+        }
+
+        Assert.Contains(peer.Server.Received.OfType<ReadRequest>(), r => r.NodesToRead[0].NodeId == WellKnownNodes.ServerStatusState);
+    }
+
+    [Fact]
     public void PublicApi_NoWriteOrCallOperation()
     {
         // Tieflow is read-only towards the plant: no public client method writes or calls.

@@ -25,7 +25,18 @@ internal sealed class ScriptedSessionServer : IAsyncDisposable
     public Func<RepublishRequest, IServiceResponse> Republish { get; set; } =
         _ => new ServiceFault { ResponseHeader = new ResponseHeader { ServiceResult = StatusCodes.BadMessageNotAvailable } };
 
-    public List<uint> Acknowledged { get; } = [];
+    private readonly List<uint> _acknowledged = [];
+
+    public IReadOnlyList<uint> Acknowledged
+    {
+        get
+        {
+            lock (_acknowledged)
+            {
+                return [.. _acknowledged];
+            }
+        }
+    }
 
     public string[] NamespaceArray { get; set; } = ["http://opcfoundation.org/UA/", "urn:test:server", "urn:test:plant"];
 
@@ -119,9 +130,9 @@ internal sealed class ScriptedSessionServer : IAsyncDisposable
                     }).ToArray(),
                 };
             case PublishRequest publish:
-                lock (Acknowledged)
+                lock (_acknowledged)
                 {
-                    Acknowledged.AddRange(publish.SubscriptionAcknowledgements.Select(a => a.SequenceNumber));
+                    _acknowledged.AddRange(publish.SubscriptionAcknowledgements.Select(a => a.SequenceNumber));
                 }
 
                 _parked.Enqueue((publish, reply));
