@@ -345,7 +345,7 @@ internal sealed partial class ServerEngine
         }
     }
 
-    private SubscriptionSettings Revise(double interval, uint lifetime, uint keepAlive, uint maxNotifications, byte priority)
+    private ServerSubscriptionSettings Revise(double interval, uint lifetime, uint keepAlive, uint maxNotifications, byte priority)
     {
         var revisedInterval = double.IsFinite(interval) && interval > Settings.MinPublishingIntervalMs
             ? Math.Min(interval, 3_600_000)
@@ -353,7 +353,7 @@ internal sealed partial class ServerEngine
         var revisedKeepAlive = keepAlive == 0 ? 10u : Math.Clamp(keepAlive, 1u, 12_000u);
         // The lifetime is at least three keep-alive periods (OPC 10000-4 §5.13.2.2).
         var revisedLifetime = Math.Clamp(lifetime, 3 * revisedKeepAlive, 300_000u);
-        return new SubscriptionSettings(revisedInterval, revisedLifetime, revisedKeepAlive, maxNotifications, priority);
+        return new ServerSubscriptionSettings(revisedInterval, revisedLifetime, revisedKeepAlive, maxNotifications, priority);
     }
 
     private (StatusCode Status, MonitoredItemSettings? Settings) ReviseItem(

@@ -67,6 +67,17 @@ internal sealed partial class ServerEngine : IDisposable
         }
     }
 
+    public int ParkedPublishCount
+    {
+        get
+        {
+            lock (_sync)
+            {
+                return _sessionsByToken.Values.Sum(s => s.ParkedCount);
+            }
+        }
+    }
+
     /// <summary>Runs <paramref name="action"/> under the server's lock (address-space changes, value updates).</summary>
     public void Locked(Action action)
     {

@@ -18,7 +18,7 @@ internal sealed class ServerSubscription : IDisposable
     private bool _needsKeepAlive;
     private bool _firstMessageSent;
 
-    public ServerSubscription(uint id, ServerSession session, SubscriptionSettings settings)
+    public ServerSubscription(uint id, ServerSession session, ServerSubscriptionSettings settings)
     {
         Id = id;
         Session = session;
@@ -29,7 +29,7 @@ internal sealed class ServerSubscription : IDisposable
 
     public ServerSession Session { get; set; }
 
-    public SubscriptionSettings Settings { get; set; }
+    public ServerSubscriptionSettings Settings { get; set; }
 
     public uint LifetimeCount => Settings.LifetimeCount;
 

@@ -71,6 +71,9 @@ public sealed class UaServer : IAsyncDisposable
     /// <summary>Number of open sessions.</summary>
     public int SessionCount => _engine.SessionCount;
 
+    /// <summary>Publish requests parked in all sessions (for tests).</summary>
+    internal int ParkedPublishCount => _engine.ParkedPublishCount;
+
     /// <summary>Adds a folder (FolderType, Organizes) under <paramref name="parent"/>.</summary>
     /// <param name="parent">An existing folder or object (e.g. <see cref="ObjectsFolder"/>).</param>
     /// <param name="name">Browse name in namespace 2; the NodeId is <c>ns=2;s=</c> the parent's path, a dot, and this name.</param>

@@ -1,6 +1,4 @@
 using System.Text.Json;
-using Tieflow.OpcUa.Encoding;
-using Tieflow.OpcUa.Server;
 
 namespace Tieflow.OpcUa.Tests.Interop;
 
@@ -8,53 +6,15 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// node-opcua's client (probe.mjs, an independent implementation) against our server over loopback: browse, read,
 /// translate, subscribe and receive changing values, and multi-chunk responses with an 8192-byte buffer.
 /// </summary>
-public sealed class NodeClientAgainstOurServerTests : IAsyncLifetime
+public sealed class NodeClientAgainstOurServerTests(OurServerForProbe fixture) : IClassFixture<OurServerForProbe>
 {
-    private static readonly TimeSpan ProbeTimeout = TimeSpan.FromSeconds(60);
-    private static readonly DateTime Measured = new(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc);
-
-    private readonly CancellationTokenSource _stop = new();
-    private UaServer _server = null!;
-    private Task _ticker = Task.CompletedTask;
-    private NodeId _ramp;
-    private NodeId _quality;
-
-    public async Task InitializeAsync()
-    {
-        _server = new UaServer(new UaServerOptions { ResourcePath = "/sim" });
-        var plant = _server.AddFolder(UaServer.ObjectsFolder, "Plant");
-        var unit = _server.AddObject(plant, "Unit1");
-        _ramp = _server.AddVariable(unit, "Ramp", new Variant(BuiltInType.Double, 0.0));
-        _quality = _server.AddVariable(unit, "Quality", new Variant(BuiltInType.Double, 0.0));
-        _server.AddVariable(unit, "Level", new Variant(BuiltInType.Double, 10.0), new UaVariableOptions { EngineeringUnitsRange = (0, 100) });
-        var tags = _server.AddFolder(plant, "Tags");
-        for (var i = 0; i < 300; i++)
-        {
-            _server.AddVariable(tags, $"Tag{i:000}", new Variant(BuiltInType.Double, i + 0.5));
-        }
-        _server.UpdateValue(_quality, new Variant(BuiltInType.Double, 12.5), StatusCodes.BadSensorFailure, Measured);
-        await _server.StartAsync();
-        _ticker = TickAsync(_stop.Token);
-    }
-
-    public async Task DisposeAsync()
-    {
-        await _stop.CancelAsync();
-        await _ticker;
-        await _server.DisposeAsync();
-        _stop.Dispose();
-    }
-
     [Fact]
     public async Task Probe_BrowseReadTranslate_SeesOurAddressSpace()
     {
-        var lines = await NodePeer.RunProbeAsync(_server.EndpointUrl, ProbeTimeout,
-            "--must-exist", "--browse", "i=85", "--depth", "1",
-            "--read", "ns=2;s=Plant.Unit1.Quality,i=2255", "--attributes",
-            "--path", "/Objects/2:Plant/2:Unit1/2:Ramp");
+        var lines = await fixture.MainRun.Value;
 
         var endpoint = Assert.Single(Kind(lines, "endpoints")).GetProperty("endpoints")[0];
-        Assert.Equal(_server.EndpointUrl, endpoint.GetProperty("endpointUrl").GetString());
+        Assert.Equal(fixture.Server.EndpointUrl, endpoint.GetProperty("endpointUrl").GetString());
         var objects = Assert.Single(Kind(lines, "browse"), l => l.GetProperty("node").GetString() == "i=85");
         var names = objects.GetProperty("references").EnumerateArray().Select(r => r.GetProperty("browseName").GetString()).ToList();
         Assert.Contains("Server", names);
@@ -79,8 +39,7 @@ public sealed class NodeClientAgainstOurServerTests : IAsyncLifetime
     [Fact]
     public async Task Probe_Subscribe_ReceivesChangingValues()
     {
-        var lines = await NodePeer.RunProbeAsync(_server.EndpointUrl, ProbeTimeout,
-            "--must-exist", "--subscribe", "ns=2;s=Plant.Unit1.Ramp", "--seconds", "3");
+        var lines = await fixture.MainRun.Value;
 
         var subscription = Assert.Single(Kind(lines, "subscription"));
         Assert.Equal(250, subscription.GetProperty("publishingInterval").GetDouble(), 6);
@@ -93,9 +52,23 @@ public sealed class NodeClientAgainstOurServerTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task Probe_ReadWith8192ByteBuffer_GetsAMultiChunkResponse()
+    {
+        // The main run uses an 8192-byte buffer: 122 nodes x 8 attributes (under our 1000 operations per call) give
+        // a response of about 22 kB, at least three chunks.
+        var lines = await fixture.MainRun.Value;
+
+        var reads = Kind(lines, "read").Where(r => r.GetProperty("node").GetString()!.StartsWith("ns=2;s=Plant.Tags.", StringComparison.Ordinal)).ToList();
+        Assert.Equal(120 * 8, reads.Count);
+        Assert.All(reads, r => Assert.Equal("Good", r.GetProperty("status").GetString()));
+        var last = Assert.Single(reads, r => r.GetProperty("node").GetString() == "ns=2;s=Plant.Tags.Tag119" && r.GetProperty("attributeId").GetInt32() == 13);
+        Assert.Equal(119.5, last.GetProperty("value").GetDouble(), 12);
+    }
+
+    [Fact]
     public async Task Probe_PercentDeadbands_GetPerItemResults()
     {
-        var lines = await NodePeer.RunProbeAsync(_server.EndpointUrl, ProbeTimeout,
+        var lines = await NodePeer.RunProbeAsync(fixture.Server.EndpointUrl, OurServerForProbe.ProbeTimeout,
             "--must-exist", "--subscribe", "ns=2;s=Plant.Unit1.Ramp,ns=2;s=Plant.Unit1.Level", "--deadband", "10", "--deadband-type", "pct", "--seconds", "1");
 
         var items = Kind(lines, "item").ToList();
@@ -106,40 +79,6 @@ public sealed class NodeClientAgainstOurServerTests : IAsyncLifetime
         Assert.Equal("Good", level.GetProperty("status").GetString());
     }
 
-    [Fact]
-    public async Task Probe_ReadWith8192ByteBuffer_GetsAMultiChunkResponse()
-    {
-        // 120 nodes x 8 attributes stay under our 1000 operations per call; the response (about 22 kB: each node
-        // adds two names and five small values) needs at least three 8192-byte chunks.
-        var nodes = string.Join(',', Enumerable.Range(0, 120).Select(i => $"ns=2;s=Plant.Tags.Tag{i:000}"));
-
-        var lines = await NodePeer.RunProbeAsync(_server.EndpointUrl, ProbeTimeout, "--must-exist", "--rb", "8192", "--read", nodes, "--attributes");
-
-        var reads = Kind(lines, "read").ToList();
-        Assert.Equal(120 * 8, reads.Count);
-        Assert.All(reads, r => Assert.Equal("Good", r.GetProperty("status").GetString()));
-        var last = Assert.Single(reads, r => r.GetProperty("node").GetString() == "ns=2;s=Plant.Tags.Tag119" && r.GetProperty("attributeId").GetInt32() == 13);
-        Assert.Equal(119.5, last.GetProperty("value").GetDouble(), 12);
-    }
-
     private static IEnumerable<JsonElement> Kind(IReadOnlyList<JsonElement> lines, string kind) =>
         lines.Where(l => l.GetProperty("kind").GetString() == kind);
-
-    private async Task TickAsync(CancellationToken ct)
-    {
-        var value = 0.0;
-        while (!ct.IsCancellationRequested)
-        {
-            try
-            {
-                await Task.Delay(100, ct);
-            }
-            catch (OperationCanceledException)
-            {
-                return;
-            }
-            value += 0.1;
-            _server.UpdateValue(_ramp, new Variant(BuiltInType.Double, value), StatusCodes.Good, TimeProvider.System.GetUtcNow().UtcDateTime);
-        }
-    }
 }

@@ -20,7 +20,7 @@ internal sealed class RawUaClient : IDisposable
 
     public uint ChannelId { get; private set; }
 
-    public uint TokenId { get; private set; }
+    public uint TokenId { get; set; }
 
     public NodeId AuthenticationToken { get; set; }
 

@@ -383,12 +383,101 @@ public sealed class UaServerTests : IAsyncLifetime
         _time.Advance(TimeSpan.FromSeconds(1));
         _ = await client.CallAsync<PublishResponse>(new PublishRequest());
         await client.SendRawAsync(client.MessageChunk(client.EncodeRequest(new PublishRequest())));
+        for (var i = 0; i < 500 && _server.ParkedPublishCount == 0; i++)
+        {
+            await Task.Delay(10);
+        }
+        Assert.Equal(1, _server.ParkedPublishCount);
 
         await _server.StopAsync();
         var response = await client.ReadResponseAsync();
 
         Assert.IsType<ServiceFault>(response);
         Assert.Equal(StatusCodes.BadSessionClosed, response.ResponseHeader.ServiceResult);
+    }
+
+    [Fact]
+    public async Task OpenSecureChannel_Renew_IssuesANewTokenAndStillAcceptsTheOldOne()
+    {
+        using var client = await OpenChannelAsync();
+        var first = client.TokenId;
+
+        var renewed = await client.OpenAsync(SecurityTokenRequestType.Renew);
+        var second = renewed.SecurityToken.TokenId;
+
+        Assert.NotEqual(first, second);
+        Assert.Equal(client.ChannelId, renewed.SecurityToken.ChannelId);
+        // Until the client uses the new token, the old one stays valid (OPC 10000-4 §5.5.2.1).
+        client.TokenId = first;
+        await client.CallAsync<GetEndpointsResponse>(new GetEndpointsRequest { EndpointUrl = Url });
+        client.TokenId = second;
+        await client.CallAsync<GetEndpointsResponse>(new GetEndpointsRequest { EndpointUrl = Url });
+    }
+
+    [Fact]
+    public async Task ActivateSession_OnANewChannel_MovesTheSessionAndItsSubscriptions()
+    {
+        using var first = await SessionAsync();
+        var subscription = await first.CallAsync<CreateSubscriptionResponse>(new CreateSubscriptionRequest { RequestedPublishingInterval = 100, RequestedMaxKeepAliveCount = 3, RequestedLifetimeCount = 30 });
+        using var second = await OpenChannelAsync();
+        second.AuthenticationToken = first.AuthenticationToken;
+
+        await second.CallAsync<ActivateSessionResponse>(new ActivateSessionRequest());
+        var onOld = await first.RequestAsync(new ReadRequest { NodesToRead = [new ReadValueId { NodeId = _flow, AttributeId = 13 }] });
+        var modify = await second.CallAsync<ModifySubscriptionResponse>(new ModifySubscriptionRequest
+        {
+            SubscriptionId = subscription.SubscriptionId, RequestedPublishingInterval = 200, RequestedMaxKeepAliveCount = 3, RequestedLifetimeCount = 30,
+        });
+
+        Assert.Equal(StatusCodes.BadSecureChannelIdInvalid, onOld.ResponseHeader.ServiceResult);
+        Assert.Equal(200, modify.RevisedPublishingInterval, 12);
+    }
+
+    [Fact]
+    public async Task TransferSubscriptions_ToANewSession_MovesItAndTellsTheOldSession()
+    {
+        using var first = await SessionAsync();
+        var subscription = await first.CallAsync<CreateSubscriptionResponse>(new CreateSubscriptionRequest { RequestedPublishingInterval = 100, RequestedMaxKeepAliveCount = 3, RequestedLifetimeCount = 30 });
+        using var second = await SessionAsync();
+
+        var transfer = await second.CallAsync<TransferSubscriptionsResponse>(new TransferSubscriptionsRequest { SubscriptionIds = [subscription.SubscriptionId, 9999], SendInitialValues = true });
+        var old = await first.CallAsync<PublishResponse>(new PublishRequest());
+
+        Assert.Equal(StatusCodes.Good, transfer.Results[0].StatusCode);
+        Assert.Equal(StatusCodes.BadSubscriptionIdInvalid, transfer.Results[1].StatusCode);
+        var status = Assert.IsType<StatusChangeNotification>(Assert.Single(old.NotificationMessage.NotificationData).Body);
+        Assert.Equal(StatusCodes.GoodSubscriptionTransferred, status.Status);
+    }
+
+    [Fact]
+    public async Task Publish_MoreThanTheParkingLimit_AnswersTheOldestWithTooManyPublishRequests()
+    {
+        using var client = await SessionAsync();
+        await client.CallAsync<CreateSubscriptionResponse>(new CreateSubscriptionRequest { RequestedPublishingInterval = 1000, RequestedMaxKeepAliveCount = 100, RequestedLifetimeCount = 300 });
+        _time.Advance(TimeSpan.FromSeconds(1));
+        _ = await client.CallAsync<PublishResponse>(new PublishRequest());
+
+        for (var i = 0; i < 21; i++)
+        {
+            await client.SendRawAsync(client.MessageChunk(client.EncodeRequest(new PublishRequest())));
+        }
+        var response = await client.ReadResponseAsync();
+
+        Assert.IsType<ServiceFault>(response);
+        Assert.Equal(StatusCodes.BadTooManyPublishRequests, response.ResponseHeader.ServiceResult);
+    }
+
+    [Fact]
+    public async Task FindServers_DescribesThisServer()
+    {
+        using var client = await OpenChannelAsync();
+
+        var response = await client.CallAsync<FindServersResponse>(new FindServersRequest { EndpointUrl = Url });
+
+        var server = Assert.Single(response.Servers);
+        Assert.Equal("urn:tieflow:opcua-server", server.ApplicationUri);
+        Assert.Equal(ApplicationType.Server, server.ApplicationType);
+        Assert.Equal(Url, Assert.Single(server.DiscoveryUrls));
     }
 
     [Fact]
@@ -427,7 +516,7 @@ public sealed class UaServerTests : IAsyncLifetime
     {
         await client.SendRawAsync(client.MessageChunk(client.EncodeRequest(new PublishRequest { SubscriptionAcknowledgements = acks })));
         // Let the server park the request before the clock moves.
-        await WaitUntilAsync(() => true);
+        await WaitUntilAsync(() => _server.ParkedPublishCount > 0);
         for (var elapsed = TimeSpan.Zero; elapsed < advance; elapsed += TimeSpan.FromMilliseconds(100))
         {
             await Task.Delay(20);

@@ -6,7 +6,7 @@ namespace Tieflow.OpcUa.Server;
 /// <param name="MaxKeepAliveCount">Empty publishing cycles before a keep-alive is sent.</param>
 /// <param name="MaxNotificationsPerPublish">Most notifications in one message (0: no limit).</param>
 /// <param name="Priority">Relative priority among the session's subscriptions.</param>
-internal sealed record SubscriptionSettings(
+internal sealed record ServerSubscriptionSettings(
     double PublishingIntervalMs,
     uint LifetimeCount,
     uint MaxKeepAliveCount,

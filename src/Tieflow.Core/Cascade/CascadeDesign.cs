@@ -1,0 +1,469 @@
+using Tieflow.Core.Chemistry;
+using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Numerics;
+
+namespace Tieflow.Core.Cascade;
+
+/// <summary>
+/// Design of counter-current cascades on any equilibrium model: stages for a target, solvent flow for a target with a
+/// given number of stages, and minimum solvent flow. Flows are on the system's basis (kg/h with mass fractions, kmol/h
+/// with mole fractions); temperatures kelvin.
+/// </summary>
+/// <remarks>
+/// <para>The target fixes the overall balance: the final raffinate lies on the raffinate branch at the target solute
+/// fraction (a recovery target is first turned into that fraction), the extract leaving stage 1 on the extract branch on
+/// the line through that raffinate and the mixture of feed and solvent. The net flow D = feed - extract = raffinate
+/// leaving stage n - extract entering it is the same for every stage (the difference point).</para>
+/// <para>Stages are counted from the feed end: the extract leaving stage n gives x* by its tie line, the Murphree
+/// relation gives the raffinate leaving, and the extract entering is where the line through that raffinate and D meets
+/// the extract branch; the last stage counts by the fraction of its solute change needed.</para>
+/// <para>The minimum solvent flow is where, between the final raffinate and the raffinate in equilibrium with the
+/// extract leaving stage 1, a tie line first passes through D (a pinch: infinitely many stages, for any efficiency
+/// above zero). It is found by bisection on the solvent flow with a scan of tie lines over that range (64 intervals
+/// plus both ends exactly), so a pinch strictly inside the range is located to the scan's resolution.</para>
+/// </remarks>
+public sealed class CascadeDesign
+{
+    private const int PinchScanIntervals = 64;
+    private const int BranchScanIntervals = 48;
+
+    private readonly CascadeSolver _solver;
+    private readonly Envelope _envelope;
+    private readonly CascadeSolverOptions _options;
+
+    /// <summary>Creates a design calculator for one model at one temperature.</summary>
+    /// <param name="model">The equilibrium model.</param>
+    /// <param name="temperatureKelvin">Temperature of every stage, kelvin.</param>
+    /// <param name="options">Tolerance and iteration limits of the cascade solves; defaults when null.</param>
+    /// <param name="maxStages">Largest stage count a design may return, 1 or more; default 500.</param>
+    public CascadeDesign(IPhaseEquilibrium model, double temperatureKelvin, CascadeSolverOptions? options = null, int maxStages = 500)
+    {
+        _solver = new CascadeSolver(model, temperatureKelvin, options);
+        _envelope = _solver.Envelope;
+        _options = _solver.Options;
+        ArgumentOutOfRangeException.ThrowIfLessThan(maxStages, 1);
+        MaxStages = maxStages;
+    }
+
+    /// <summary>Largest stage count a design may return.</summary>
+    public int MaxStages { get; }
+
+    private string FlowUnit => _envelope.Model.System.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+
+    /// <summary>Stages of a counter-current cascade for a target at the given solvent flow.</summary>
+    /// <param name="feed">Feed to stage 1; flow above zero.</param>
+    /// <param name="solvent">Solvent to the last stage; flow above zero.</param>
+    /// <param name="target">Final raffinate solute fraction or recovery.</param>
+    /// <param name="efficiencies">Murphree raffinate efficiencies above zero, stage 1 first; stages beyond the list use its last value.</param>
+    /// <returns>Whole and fractional stages, the minimum solvent flow, and the cascade of the whole number of stages.</returns>
+    /// <exception cref="InfeasibleSpecificationException">When the target is above the feed's content, or beyond what infinitely many stages reach at this solvent flow, or needs more than <see cref="MaxStages"/> stages.</exception>
+    public DesignResult FindStages(MaterialStream feed, MaterialStream solvent, DesignTarget target, IReadOnlyList<double> efficiencies)
+    {
+        CheckDesignInputs(feed, solvent, efficiencies, target);
+        Ternary zS = solvent.Composition;
+        double flow = solvent.Flow;
+        MinimumSolventResult minimum = FindMinimumSolvent(feed, zS, target);
+        if (!Feasible(feed, zS, flow, target, out _, out _))
+        {
+            string relaxed = Relaxed(feed, zS, flow, target);
+            throw new InfeasibleSpecificationException($"The {target} cannot be reached at a solvent flow of {flow:G6} {FlowUnit}, even with infinitely many stages: raise the solvent flow above {minimum.MinimumSolventFlow:G6} {FlowUnit} or relax the target to {relaxed}.");
+        }
+
+        double xt = RaffinateTarget(feed, zS, flow, target);
+        double fractional = CountStages(feed, zS, flow, xt, efficiencies);
+        int whole = Math.Max(1, (int)Math.Ceiling(fractional - 1e-9));
+        CascadeResult cascade = _solver.SolveCountercurrent(feed, solvent, StageEfficiencies(efficiencies, whole));
+        return new DesignResult(whole, fractional, flow, minimum.MinimumSolventFlow, cascade);
+    }
+
+    /// <summary>Stages for a target with the same efficiency on every stage.</summary>
+    /// <inheritdoc cref="FindStages(MaterialStream, MaterialStream, DesignTarget, IReadOnlyList{double})"/>
+    public DesignResult FindStages(MaterialStream feed, MaterialStream solvent, DesignTarget target, double efficiency = 1) =>
+        FindStages(feed, solvent, target, [efficiency]);
+
+    /// <summary>Solvent flow with which a counter-current cascade of <paramref name="stages"/> stages just meets the target.</summary>
+    /// <param name="feed">Feed to stage 1; flow above zero.</param>
+    /// <param name="solventComposition">Composition of the solvent (fractions summing to one).</param>
+    /// <param name="stages">Number of stages, 1 or more.</param>
+    /// <param name="target">Final raffinate solute fraction or recovery.</param>
+    /// <param name="efficiencies">Murphree raffinate efficiencies above zero, stage 1 first; stages beyond the list use its last value.</param>
+    /// <exception cref="InfeasibleSpecificationException">When no solvent flow meets the target (target above the feed's content, or below what the solvent's own solute allows).</exception>
+    public DesignResult FindSolvent(MaterialStream feed, Ternary solventComposition, int stages, DesignTarget target, IReadOnlyList<double> efficiencies)
+    {
+        ArgumentOutOfRangeException.ThrowIfLessThan(stages, 1);
+        CheckDesignInputs(feed, new MaterialStream(1, solventComposition), efficiencies, target);
+        MinimumSolventResult minimum = FindMinimumSolvent(feed, solventComposition, target);
+        double[] perStage = StageEfficiencies(efficiencies, stages);
+
+        // Shortfall of the target: above zero when the cascade does not meet it; falls as the solvent flow rises.
+        double Shortfall(double flow)
+        {
+            CascadeResult r = _solver.SolveCountercurrent(feed, new MaterialStream(flow, solventComposition), perStage);
+            return target.Kind == DesignTargetKind.RaffinateFraction ? r.Raffinate.Composition.Solute - target.Value : target.Value - r.Recovery;
+        }
+
+        double lo = minimum.MinimumSolventFlow, hi = 2 * lo;
+        double fLo = Shortfall(lo), fHi = Shortfall(hi);
+        for (int i = 0; fHi > 0 && i < 60; i++)
+        {
+            lo = hi;
+            fLo = fHi;
+            hi *= 2;
+            fHi = Shortfall(hi);
+        }
+
+        if (fHi > 0)
+        {
+            throw new InfeasibleSpecificationException($"No solvent flow up to {hi:G6} {FlowUnit} lets {stages} stages reach the {target}: add stages or relax the target.");
+        }
+
+        if (!BracketedRoot.TryFind(static (s, f) => f(s), Shortfall, lo, hi, fLo, fHi, 1e-10 * hi, _options.MaxIterations, out double flowFound, out _))
+        {
+            throw new CascadeException($"The solvent flow for {stages} stages and the {target} did not converge between {lo:G6} and {hi:G6} {FlowUnit}.");
+        }
+
+        CascadeResult cascade = _solver.SolveCountercurrent(feed, new MaterialStream(flowFound, solventComposition), perStage);
+        double xt = RaffinateTarget(feed, solventComposition, flowFound, target);
+        double fractional = CountStages(feed, solventComposition, flowFound, xt, efficiencies);
+        return new DesignResult(stages, fractional, flowFound, minimum.MinimumSolventFlow, cascade);
+    }
+
+    /// <summary>Solvent flow for a target with the same efficiency on every stage.</summary>
+    /// <inheritdoc cref="FindSolvent(MaterialStream, Ternary, int, DesignTarget, IReadOnlyList{double})"/>
+    public DesignResult FindSolvent(MaterialStream feed, Ternary solventComposition, int stages, DesignTarget target, double efficiency = 1) =>
+        FindSolvent(feed, solventComposition, stages, target, [efficiency]);
+
+    /// <summary>Minimum solvent flow of a counter-current cascade for a target (the flow at which a pinch appears).</summary>
+    /// <param name="feed">Feed to stage 1; flow above zero.</param>
+    /// <param name="solventComposition">Composition of the solvent (fractions summing to one).</param>
+    /// <param name="target">Final raffinate solute fraction or recovery.</param>
+    /// <exception cref="InfeasibleSpecificationException">When no solvent flow reaches the target.</exception>
+    public MinimumSolventResult FindMinimumSolvent(MaterialStream feed, Ternary solventComposition, DesignTarget target)
+    {
+        CheckDesignInputs(feed, new MaterialStream(1, solventComposition), [1.0], target);
+        double hi = feed.Flow;
+        int doublings = 0;
+        while (!Feasible(feed, solventComposition, hi, target, out _, out _))
+        {
+            hi *= 2;
+            if (++doublings > 40)
+            {
+                throw new InfeasibleSpecificationException($"No solvent flow up to {hi:G6} {FlowUnit} of this solvent reaches the {target}, even with infinitely many stages: relax the target{SolventLimitHint(solventComposition)} or use a solvent with less solute.");
+            }
+        }
+
+        double lo = 0;
+        int iterations = 0;
+        while (hi - lo > 1e-11 * hi && iterations < 200)
+        {
+            iterations++;
+            double mid = 0.5 * (lo + hi);
+            if (Feasible(feed, solventComposition, mid, target, out _, out _))
+            {
+                hi = mid;
+            }
+            else
+            {
+                lo = mid;
+            }
+        }
+
+        // The pinch location: where the infeasible side first fails.
+        Feasible(feed, solventComposition, lo, target, out double pinch, out double xt);
+        if (double.IsNaN(pinch))
+        {
+            xt = RaffinateTarget(feed, solventComposition, hi, target);
+        }
+
+        return new MinimumSolventResult(hi, pinch, xt, iterations);
+    }
+
+    internal static double[] StageEfficiencies(IReadOnlyList<double> efficiencies, int stages)
+    {
+        var list = new double[stages];
+        for (int n = 0; n < stages; n++)
+        {
+            list[n] = efficiencies[Math.Min(n, efficiencies.Count - 1)];
+        }
+
+        return list;
+    }
+
+    /// <summary>Fractional stages counted from the feed end with the end points fixed by the raffinate target.</summary>
+    internal double CountStages(MaterialStream feed, Ternary zS, double flow, double xt, IReadOnlyList<double> efficiencies)
+    {
+        if (!TryOverall(feed, zS, flow, xt, out Overall overall))
+        {
+            throw new InfeasibleSpecificationException($"No overall balance gives a final raffinate with solute fraction {xt:G6} at a solvent flow of {flow:G6} {FlowUnit}: raise the solvent flow.");
+        }
+
+        double y = overall.ExtractSolute;
+        double xPrevious = feed.Composition.Solute;
+        for (int n = 1; n <= MaxStages; n++)
+        {
+            double e = efficiencies[Math.Min(n, efficiencies.Count) - 1];
+            double xStar = _envelope.FromExtract(y).Raffinate.Solute;
+            double x = xPrevious - (e * (xPrevious - xStar));
+            if (x <= xt)
+            {
+                return n - 1 + ((xPrevious - xt) / (xPrevious - x));
+            }
+
+            if (!(x < xPrevious))
+            {
+                break;
+            }
+
+            Ternary raffinate = _envelope.Raffinate(x);
+            if (!TryNextExtract(raffinate, overall.Difference, y, out double next))
+            {
+                break;
+            }
+
+            y = next;
+            xPrevious = x;
+        }
+
+        throw new InfeasibleSpecificationException($"The {xt:G6} raffinate target needs more than {MaxStages} stages at a solvent flow of {flow:G6} {FlowUnit} (the operating line pinches against a tie line): raise the solvent flow or relax the target.");
+    }
+
+    /// <summary>The raffinate solute fraction a target means at this solvent flow.</summary>
+    internal double RaffinateTarget(MaterialStream feed, Ternary zS, double flow, DesignTarget target)
+    {
+        if (target.Kind == DesignTargetKind.RaffinateFraction)
+        {
+            return target.Value;
+        }
+
+        if (!TryRaffinateForRecovery(feed, zS, flow, target.Value, out double xt))
+        {
+            throw new InfeasibleSpecificationException($"No final raffinate gives a recovery of {target.Value:G6} at a solvent flow of {flow:G6} {FlowUnit}: raise the solvent flow or relax the target.");
+        }
+
+        return xt;
+    }
+
+    private static void CheckDesignInputs(MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, DesignTarget target)
+    {
+        CascadeSolver.CheckStream(feed, nameof(feed), positive: true);
+        CascadeSolver.CheckStream(solvent, nameof(solvent), positive: true);
+        ArgumentNullException.ThrowIfNull(efficiencies);
+        if (efficiencies.Count < 1)
+        {
+            throw new ArgumentException("Expected at least one stage efficiency.", nameof(efficiencies));
+        }
+
+        for (int i = 0; i < efficiencies.Count; i++)
+        {
+            if (!(efficiencies[i] > 0 && efficiencies[i] <= 1))
+            {
+                throw new ArgumentOutOfRangeException(nameof(efficiencies), efficiencies[i], $"Expected efficiencies[{i}] above 0 and at most 1 for a design (a stage of efficiency 0 transfers nothing).");
+            }
+        }
+
+        if (target.Value == 0)
+        {
+            throw new ArgumentException("Expected a target made with DesignTarget.RaffinateFraction or DesignTarget.Recovery.", nameof(target));
+        }
+
+        double xF = feed.Composition.Solute;
+        if (target.Kind == DesignTargetKind.RaffinateFraction && target.Value >= xF)
+        {
+            throw new InfeasibleSpecificationException($"The target raffinate solute fraction {target.Value:G6} is not below the feed's solute fraction {xF:G6}: lower the target below {xF:G6}.");
+        }
+
+        if (target.Kind == DesignTargetKind.Recovery && !(xF > 0))
+        {
+            throw new InfeasibleSpecificationException("The feed holds no solute, so no recovery can be reached: give a feed with solute.");
+        }
+    }
+
+    private string SolventLimitHint(Ternary zS)
+    {
+        if (!(zS.Solute > 0) || zS.Solute > _envelope.ExtractMax)
+        {
+            return string.Empty;
+        }
+
+        double x = _envelope.FromExtract(zS.Solute).Raffinate.Solute;
+        return $" (the solvent's own solute keeps the raffinate above about {x:G4})";
+    }
+
+    /// <summary>The nearest target that infinitely many stages reach at this solvent flow, as text.</summary>
+    private string Relaxed(MaterialStream feed, Ternary zS, double flow, DesignTarget target)
+    {
+        if (target.Kind == DesignTargetKind.RaffinateFraction)
+        {
+            double lo = target.Value, hi = feed.Composition.Solute;
+            for (int i = 0; i < 60; i++)
+            {
+                double mid = 0.5 * (lo + hi);
+                if (Feasible(feed, zS, flow, DesignTarget.RaffinateFraction(mid), out _, out _))
+                {
+                    hi = mid;
+                }
+                else
+                {
+                    lo = mid;
+                }
+            }
+
+            return $"a raffinate solute fraction of {hi:G4} or more";
+        }
+        else
+        {
+            double lo = 0, hi = target.Value;
+            for (int i = 0; i < 60; i++)
+            {
+                double mid = 0.5 * (lo + hi);
+                if (mid > 0 && Feasible(feed, zS, flow, DesignTarget.Recovery(mid), out _, out _))
+                {
+                    lo = mid;
+                }
+                else
+                {
+                    hi = mid;
+                }
+            }
+
+            return $"a recovery of {lo:G4} or less";
+        }
+    }
+
+    /// <summary>
+    /// Whether infinitely many stages reach the target at this solvent flow: the overall balance exists and no tie line
+    /// between the final raffinate and the stage-1 equilibrium raffinate passes through the difference point.
+    /// </summary>
+    private bool Feasible(MaterialStream feed, Ternary zS, double flow, DesignTarget target, out double pinch, out double xt)
+    {
+        pinch = double.NaN;
+        xt = double.NaN;
+        if (!(flow > 0))
+        {
+            return false;
+        }
+
+        if (target.Kind == DesignTargetKind.RaffinateFraction)
+        {
+            xt = target.Value;
+        }
+        else if (!TryRaffinateForRecovery(feed, zS, flow, target.Value, out xt))
+        {
+            return false;
+        }
+
+        if (!TryOverall(feed, zS, flow, xt, out Overall overall))
+        {
+            return false;
+        }
+
+        TieLine first = _envelope.FromExtract(overall.ExtractSolute);
+        double xEnd = first.Raffinate.Solute;
+        if (xEnd <= xt)
+        {
+            // The extract leaving stage 1 is leaner than equilibrium with the target raffinate: less than one stage.
+            return true;
+        }
+
+        for (int i = 0; i <= PinchScanIntervals; i++)
+        {
+            double x = xt + ((xEnd - xt) * i / PinchScanIntervals);
+            TieLine tie = i == PinchScanIntervals ? first : _envelope.Model.TieLineFromRaffinate(Math.Min(x, _envelope.RaffinateMax), _envelope.TemperatureKelvin);
+            double side = Envelope.Det(tie.Raffinate, tie.Extract, overall.Difference);
+            double reference = -Envelope.Det(tie.Raffinate, tie.Extract, zS);
+            if (!(side * reference > 0))
+            {
+                pinch = x;
+                return false;
+            }
+        }
+
+        return true;
+    }
+
+    private bool TryRaffinateForRecovery(MaterialStream feed, Ternary zS, double flow, double recovery, out double xt)
+    {
+        double feedSolute = feed.ComponentFlows.Solute;
+        double Excess(double x) => TryOverall(feed, zS, flow, x, out Overall o) ? (1 - (o.RaffinateFlow * x / feedSolute)) - recovery : double.NaN;
+
+        double hi = Math.Min(feed.Composition.Solute, _envelope.RaffinateMax);
+        double fHi = Excess(hi);
+        for (int i = 0; double.IsNaN(fHi) && i < 60; i++)
+        {
+            hi *= 0.7;
+            fHi = Excess(hi);
+        }
+
+        double lo = 1e-12 * hi;
+        double fLo = Excess(lo);
+        if (double.IsNaN(fHi) || double.IsNaN(fLo) || fLo * fHi > 0)
+        {
+            xt = double.NaN;
+            return false;
+        }
+
+        return BracketedRoot.TryFind(static (x, f) => f(x), Excess, lo, hi, fLo, fHi, 1e-15, _options.MaxStageIterations, out xt, out _) && !double.IsNaN(xt);
+    }
+
+    /// <summary>Overall balance: feed + solvent = final raffinate (at xt on the raffinate branch) + extract leaving stage 1.</summary>
+    private bool TryOverall(MaterialStream feed, Ternary zS, double flow, double xt, out Overall overall)
+    {
+        overall = default;
+        Ternary m = feed.ComponentFlows + (flow * zS);
+        Ternary z = (1 / m.Sum) * m;
+        Ternary rN = _envelope.Raffinate(xt);
+        double G(double y) => Envelope.Det(rN, _envelope.FromExtract(y).Extract, z);
+
+        double yMax = _envelope.ExtractMax;
+        double previousY = 0, previousG = G(0);
+        for (int i = 1; i <= BranchScanIntervals; i++)
+        {
+            double y = yMax * i / BranchScanIntervals;
+            double g = G(y);
+            if (previousG * g <= 0 && BracketedRoot.TryFind(static (y, f) => f(y), G, previousY, y, previousG, g, _options.Tolerance * 1e-3, _options.MaxStageIterations, out double root, out _))
+            {
+                Ternary e = _envelope.FromExtract(root).Extract;
+                (double l, double v) = Envelope.Lever(m, rN, e);
+                if (l > 0 && v > 0)
+                {
+                    overall = new Overall(root, l, v, feed.ComponentFlows - (v * e));
+                    return true;
+                }
+            }
+
+            previousY = y;
+            previousG = g;
+        }
+
+        return false;
+    }
+
+    /// <summary>The extract entering the stage whose raffinate leaves at <paramref name="raffinate"/>: on the line through it and the difference point.</summary>
+    private bool TryNextExtract(Ternary raffinate, Ternary difference, double yAbove, out double y)
+    {
+        double G(double v) => Envelope.Det(_envelope.FromExtract(v).Extract, raffinate, difference);
+        const int Cells = 32;
+        double previousY = yAbove, previousG = G(yAbove);
+        for (int i = 1; i <= Cells; i++)
+        {
+            double v = yAbove * (Cells - i) / Cells;
+            double g = G(v);
+            if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, v, previousY, g, previousG, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
+            {
+                return true;
+            }
+
+            previousY = v;
+            previousG = g;
+        }
+
+        y = double.NaN;
+        return false;
+    }
+
+    /// <param name="ExtractSolute">Solute fraction of the extract leaving stage 1.</param>
+    /// <param name="RaffinateFlow">Final raffinate flow.</param>
+    /// <param name="ExtractFlow">Flow of the extract leaving stage 1.</param>
+    /// <param name="Difference">Net flow feed - extract (component flows), the same for every stage.</param>
+    private readonly record struct Overall(double ExtractSolute, double RaffinateFlow, double ExtractFlow, Ternary Difference);
+}

@@ -1,0 +1,33 @@
+using Spectre.Console;
+using Tieflow.Core.Cascade;
+using Tieflow.Service.Input;
+using Tieflow.Service.Output;
+
+namespace Tieflow.Service.Cli;
+
+/// <summary><c>tieflow calc cascade</c>: solves a cross-current or counter-current cascade.</summary>
+internal static class CascadeHandler
+{
+    public static int Run(CliContext context, string casePath, bool json)
+    {
+        CascadeCase c = CaseReader.LoadCascade(casePath);
+        var solver = new CascadeSolver(c.System.Model, c.TemperatureKelvin);
+        CascadeResult result = solver.Solve(Arrangement(c.Arrangement), c.Feed, c.Solvent, c.Efficiencies);
+        if (json)
+        {
+            JsonOutput.Print(context.Output, w =>
+            {
+                CascadeOutput.WriteJson(w, result, c.System.System);
+            });
+            return ExitCodes.Success;
+        }
+
+        context.Console.WriteLine($"{(c.Arrangement == CascadeKind.CrossCurrent ? "Cross-current" : "Counter-current")} cascade of {c.Stages} stage(s) at {c.TemperatureKelvin:0.##} K, system '{c.System.Name}'");
+        CascadeOutput.WriteTable(context.Console, result, c.System.System);
+        TextOutput.WriteNotice(context.Console);
+        return ExitCodes.Success;
+    }
+
+    public static CascadeArrangement Arrangement(CascadeKind kind) =>
+        kind == CascadeKind.CrossCurrent ? CascadeArrangement.Crosscurrent : CascadeArrangement.Countercurrent;
+}

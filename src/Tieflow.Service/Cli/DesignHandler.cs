@@ -1,0 +1,79 @@
+using Spectre.Console;
+using Tieflow.Core.Cascade;
+using Tieflow.Service.Input;
+using Tieflow.Service.Output;
+
+namespace Tieflow.Service.Cli;
+
+/// <summary><c>tieflow calc design</c>: stages for a target, solvent flow for a target, or minimum solvent flow.</summary>
+internal static class DesignHandler
+{
+    public static int Run(CliContext context, string casePath, bool json)
+    {
+        DesignCase d = CaseReader.LoadDesign(casePath);
+        CascadeCase c = d.Cascade;
+        if (c.Arrangement != CascadeKind.CounterCurrent)
+        {
+            throw new InputException(casePath, "$.arrangement", "design calculations are for counter-current cascades; use \"countercurrent\" (solve a cross-current cascade with 'tieflow calc cascade')");
+        }
+
+        var design = new CascadeDesign(c.System.Model, c.TemperatureKelvin);
+        DesignTarget target = d.Target.RaffinateFraction is double x ? DesignTarget.RaffinateFraction(x) : DesignTarget.Recovery(d.Target.Recovery!.Value);
+        string unit = c.System.System.Basis == Core.Chemistry.CompositionBasis.Mass ? "kg/h" : "kmol/h";
+
+        if (d.Find == DesignGoal.MinimumSolvent)
+        {
+            MinimumSolventResult minimum = design.FindMinimumSolvent(c.Feed, c.Solvent.Composition, target);
+            if (json)
+            {
+                JsonOutput.Print(context.Output, w =>
+                {
+                    w.WriteStartObject();
+                    w.WriteNull("stages");
+                    w.WriteNull("fractionalStages");
+                    w.WriteNumber("solventFlow", JsonOutput.Round(minimum.MinimumSolventFlow));
+                    w.WriteNumber("minimumSolventFlow", JsonOutput.Round(minimum.MinimumSolventFlow));
+                    w.WriteNumber("pinchRaffinateSoluteFraction", JsonOutput.Round(minimum.PinchRaffinateSoluteFraction));
+                    w.WriteNull("cascade");
+                    JsonOutput.WriteNotice(w);
+                    w.WriteEndObject();
+                });
+                return ExitCodes.Success;
+            }
+
+            context.Console.WriteLine($"Minimum solvent flow for {target} at {c.TemperatureKelvin:0.##} K, system '{c.System.Name}': {minimum.MinimumSolventFlow:G6} {unit}");
+            context.Console.WriteLine($"At that flow a pinch (infinitely many stages) forms where the raffinate holds {minimum.PinchRaffinateSoluteFraction:G5} {c.System.System.Solute.Id}. Real cascades need more solvent than this.");
+            TextOutput.WriteNotice(context.Console);
+            return ExitCodes.Success;
+        }
+
+        DesignResult result = d.Find == DesignGoal.Stages
+            ? design.FindStages(c.Feed, c.Solvent, target, c.Efficiencies)
+            : design.FindSolvent(c.Feed, c.Solvent.Composition, c.Stages, target, c.Efficiencies);
+
+        if (json)
+        {
+            JsonOutput.Print(context.Output, w =>
+            {
+                w.WriteStartObject();
+                w.WriteNumber("stages", result.Stages);
+                w.WriteNumber("fractionalStages", JsonOutput.Round(result.FractionalStages));
+                w.WriteNumber("solventFlow", JsonOutput.Round(result.SolventFlow));
+                w.WriteNumber("minimumSolventFlow", JsonOutput.Round(result.MinimumSolventFlow));
+                w.WritePropertyName("cascade");
+                CascadeOutput.WriteJson(w, result.Cascade, c.System.System);
+                JsonOutput.WriteNotice(w);
+                w.WriteEndObject();
+            });
+            return ExitCodes.Success;
+        }
+
+        context.Console.WriteLine(d.Find == DesignGoal.Stages
+            ? $"Stages for {target} with {result.SolventFlow:G6} {unit} of solvent: {result.FractionalStages:0.00} ({result.Stages} whole stages); minimum solvent {result.MinimumSolventFlow:G6} {unit}"
+            : $"Solvent flow for {target} with {result.Stages} stages: {result.SolventFlow:G6} {unit} (minimum solvent {result.MinimumSolventFlow:G6} {unit})");
+        context.Console.WriteLine($"Cascade at the answer ({result.Stages} stages):");
+        CascadeOutput.WriteTable(context.Console, result.Cascade, c.System.System);
+        TextOutput.WriteNotice(context.Console);
+        return ExitCodes.Success;
+    }
+}

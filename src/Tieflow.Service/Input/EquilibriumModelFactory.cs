@@ -1,0 +1,28 @@
+using Tieflow.Core.Chemistry;
+using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Equilibrium.Activity;
+using Tieflow.Core.Equilibrium.Distribution;
+using Tieflow.Core.Equilibrium.TieLines;
+
+namespace Tieflow.Service.Input;
+
+/// <summary>Builds the equilibrium model of a validated system file.</summary>
+internal static class EquilibriumModelFactory
+{
+    /// <exception cref="ArgumentException">When the model refuses the data (the message says why).</exception>
+    public static IPhaseEquilibrium Create(TernarySystem system, EquilibriumSpec spec) => spec switch
+    {
+        TieLineSpec t => new TieLineTableModel(system, t.TemperatureKelvin, t.TieLines),
+        NrtlSpec n => new NrtlModel(system, n.Pairs, n.ValidTemperatures),
+        UniquacSpec u => CreateUniquac(system, u),
+        DistributionSpec d => new DistributionModel(system, d.TemperatureKelvin, d.Isotherm),
+        _ => throw new ArgumentOutOfRangeException(nameof(spec), spec, "Unknown equilibrium data."),
+    };
+
+    /// <summary>Every problem of a tie-line table (crossing, inverted, out of order), with the index of the line.</summary>
+    public static IEnumerable<(int Index, string Message)> FindTieLineProblems(IReadOnlyList<TieLine> lines) =>
+        TieLineTableModel.FindProblems(lines).Select(p => (p.Index, p.Message));
+
+    private static IPhaseEquilibrium CreateUniquac(TernarySystem system, UniquacSpec spec) =>
+        throw new ArgumentException($"UNIQUAC is not available yet in this build (system with {system.Solute.Id}, {spec.Pairs.Count} pairs).");
+}

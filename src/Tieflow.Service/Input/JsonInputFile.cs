@@ -1,0 +1,48 @@
+using System.Text.Json;
+
+namespace Tieflow.Service.Input;
+
+/// <summary>Reads a JSON file into a document, turning a missing file or malformed JSON into an <see cref="InputException"/> that names the file and the place.</summary>
+internal static class JsonInputFile
+{
+    private static readonly JsonDocumentOptions Options = new() { CommentHandling = JsonCommentHandling.Skip, AllowTrailingCommas = false, MaxDepth = 64 };
+
+    public static JsonDocument Load(string path)
+    {
+        if (!System.IO.File.Exists(path))
+        {
+            throw new InputException(path, "$", "the file does not exist");
+        }
+
+        string text;
+        try
+        {
+            text = System.IO.File.ReadAllText(path);
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            throw new InputException(path, "$", $"the file cannot be read: {e.Message}");
+        }
+
+        return Parse(text, path);
+    }
+
+    public static JsonDocument Parse(string text, string path)
+    {
+        try
+        {
+            return JsonDocument.Parse(text, Options);
+        }
+        catch (JsonException e)
+        {
+            string where = e.LineNumber is long line ? $"line {line + 1}, position {e.BytePositionInLine + 1}" : "somewhere";
+            throw new InputException(path, e.Path ?? "$", $"not valid JSON at {where} (note that NaN and Infinity are not JSON numbers): {FirstSentence(e.Message)}");
+        }
+    }
+
+    private static string FirstSentence(string message)
+    {
+        int i = message.IndexOf(" LineNumber", StringComparison.Ordinal);
+        return (i > 0 ? message[..i] : message).TrimEnd();
+    }
+}

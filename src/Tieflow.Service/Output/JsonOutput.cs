@@ -1,0 +1,53 @@
+using System.Text;
+using System.Text.Json;
+using Tieflow.Core.Chemistry;
+
+namespace Tieflow.Service.Output;
+
+/// <summary>Writes results as indented JSON in the shapes of CONTRACTS.md.</summary>
+internal static class JsonOutput
+{
+    private static readonly JsonWriterOptions Options = new() { Indented = true };
+
+    /// <summary>Runs <paramref name="write"/> on a writer and prints the document, with the advisory notice as a last member when it is an object.</summary>
+    public static void Print(TextWriter output, Action<Utf8JsonWriter> write)
+    {
+        using var buffer = new MemoryStream();
+        using (var writer = new Utf8JsonWriter(buffer, Options))
+        {
+            write(writer);
+        }
+
+        output.WriteLine(Encoding.UTF8.GetString(buffer.ToArray()));
+    }
+
+    public static void WriteNotice(Utf8JsonWriter w) => w.WriteString("notice", Notices.Advisory);
+
+    public static void WriteStream(Utf8JsonWriter w, string name, MaterialStream stream, TernarySystem system)
+    {
+        w.WritePropertyName(name);
+        WriteStream(w, stream, system);
+    }
+
+    public static void WriteStream(Utf8JsonWriter w, MaterialStream stream, TernarySystem system)
+    {
+        w.WriteStartObject();
+        w.WriteNumber("flow", Round(stream.Flow));
+        WriteComposition(w, "composition", stream.Composition, system);
+        w.WriteEndObject();
+    }
+
+    public static void WriteComposition(Utf8JsonWriter w, string name, Ternary fractions, TernarySystem system)
+    {
+        w.WriteStartObject(name);
+        for (int i = 0; i < 3; i++)
+        {
+            w.WriteNumber(system.Components[i].Id, Round(fractions[i]));
+        }
+
+        w.WriteEndObject();
+    }
+
+    /// <summary>Twelve significant digits: enough for any check, without the noise of the last bits.</summary>
+    public static double Round(double value) => double.IsFinite(value) && value != 0 ? double.Parse(value.ToString("G12", System.Globalization.CultureInfo.InvariantCulture), System.Globalization.CultureInfo.InvariantCulture) : value;
+}
