@@ -34,6 +34,7 @@ public sealed class UaClient : IAsyncDisposable
     private int _activePublishers;
     private int _publishTarget;
     private uint _nextClientHandle;
+    private long _lastSessionKeepAlive;
     private volatile UaConnectionState _state;
 
     /// <summary>Creates a client; nothing is sent until <see cref="ConnectAsync"/>.</summary>
@@ -79,6 +80,7 @@ public sealed class UaClient : IAsyncDisposable
             throw;
         }
 
+        _lastSessionKeepAlive = _time.GetTimestamp();
         _watchdog = _time.CreateTimer(_ => CheckWatchdog(), null, TimeSpan.FromMilliseconds(500), TimeSpan.FromMilliseconds(500));
         StartPublishing();
         SetState(UaConnectionState.Connected, StatusCodes.Good, $"Connected to {_options.EndpointUrl}");
@@ -886,7 +888,15 @@ public sealed class UaClient : IAsyncDisposable
         }
 
         var now = _time.GetTimestamp();
-        foreach (var s in Subscriptions())
+        var subscriptions = Subscriptions();
+        if (subscriptions.Length == 0 && _time.GetElapsedTime(Volatile.Read(ref _lastSessionKeepAlive), now) > _options.SessionTimeout / 3)
+        {
+            // Without subscriptions no Publish keeps the session alive or proves the server is there: read the server state.
+            Volatile.Write(ref _lastSessionKeepAlive, now);
+            _ = KeepSessionAliveAsync();
+        }
+
+        foreach (var s in subscriptions)
         {
             var allowed = (s.KeepAlivePeriod * 1.5) + _options.KeepAliveMargin;
             var silent = _time.GetElapsedTime(s.LastAliveTimestamp, now);
@@ -895,6 +905,22 @@ public sealed class UaClient : IAsyncDisposable
                 TriggerReconnect(StatusCodes.BadTimeout, $"No data or keep-alive from the server for {silent.TotalSeconds:F1} s (allowed {allowed.TotalSeconds:F1} s)");
                 return;
             }
+        }
+    }
+
+    private async Task KeepSessionAliveAsync()
+    {
+        try
+        {
+            await ReadAsync([WellKnownNodes.ServerStatusState], Attributes.Value, _closing.Token).ConfigureAwait(false);
+        }
+        catch (ServiceResultException ex) when (IsConnectionFailure(ex.Status) || ex.Status.Is(StatusCodes.BadSessionIdInvalid) || ex.Status.Is(StatusCodes.BadSessionClosed))
+        {
+            TriggerReconnect(ex.Status, $"The session keep-alive read failed: {ex.Message}");
+        }
+        catch (Exception ex) when (ex is ServiceResultException or OperationCanceledException)
+        {
+            // Another failure of one read (or closing): the next tick tries again.
         }
     }
 

@@ -3,7 +3,7 @@ using Tieflow.OpcUa.Transport;
 namespace Tieflow.OpcUa.Client;
 
 /// <summary>Settings of a <see cref="UaClient"/>. Durations are <see cref="TimeSpan"/>s; defaults suit a plant server on a LAN.</summary>
-public sealed class UaClientOptions
+public sealed record UaClientOptions
 {
     /// <summary>The server's endpoint URL (<c>opc.tcp://host:port/path</c>). The client always dials this URL, whatever the server advertises.</summary>
     public required Uri EndpointUrl { get; init; }

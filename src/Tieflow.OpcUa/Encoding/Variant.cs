@@ -87,7 +87,7 @@ public readonly struct Variant : IEquatable<Variant>
 
     internal static Variant Trusted(BuiltInType type, object? value, int[]? dims = null) => new(type, value, dims, true);
 
-    /// <summary>Wraps a CLR value, inferring the built-in type (double → Double, string → String, NodeId → NodeId, T[] → array...).</summary>
+    /// <summary>Wraps a CLR value, inferring the built-in type (double → Double, string → String, byte[] → ByteString, NodeId → NodeId, T[] → array...).</summary>
     /// <param name="value">The value or array, or null for the empty Variant.</param>
     /// <returns>The Variant.</returns>
     /// <exception cref="ArgumentException">The CLR type has no built-in counterpart.</exception>
@@ -104,6 +104,12 @@ public readonly struct Variant : IEquatable<Variant>
         }
 
         var clr = value.GetType();
+        if (clr == typeof(byte[]))
+        {
+            // byte[] is a ByteString; an array of Byte needs the explicit constructor.
+            return new Variant(BuiltInType.ByteString, value, null, true);
+        }
+
         var element = clr.IsArray ? clr.GetElementType()! : clr;
         for (var t = BuiltInType.Boolean; t <= BuiltInType.DiagnosticInfo; t++)
         {
@@ -111,11 +117,6 @@ public readonly struct Variant : IEquatable<Variant>
             {
                 return new Variant(t, value, null, true);
             }
-        }
-
-        if (clr == typeof(byte[]))
-        {
-            return new Variant(BuiltInType.ByteString, value, null, true);
         }
 
         throw new ArgumentException($"No OPC UA built-in type holds a {clr.Name}.", nameof(value));

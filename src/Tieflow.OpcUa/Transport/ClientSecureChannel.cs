@@ -310,6 +310,11 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
                 }
 
                 var message = _codec.AddChunk(frame);
+                if (message is { MessageType: TcpMessageType.OpenSecureChannel, IsGood: true })
+                {
+                    AcceptNewToken(message);
+                }
+
                 if (message is not null && _pending.TryGetValue(message.RequestId, out var tcs))
                 {
                     tcs.TrySetResult(message);
@@ -327,6 +332,25 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         catch (Exception ex) when (ex is IOException or ObjectDisposedException or SocketException)
         {
             Fail(new ServiceResultException(StatusCodes.BadConnectionClosed, "The connection failed: " + ex.Message, ex));
+        }
+    }
+
+    /// <summary>
+    /// Accepts a renewed token as soon as its OPN response is read, before the caller continues: the server may use
+    /// it on the very next chunk.
+    /// </summary>
+    private void AcceptNewToken(ReceivedMessage message)
+    {
+        try
+        {
+            if (MessageCodec.Decode(message.Body) is OpenSecureChannelResponse { ResponseHeader.ServiceResult.IsBad: false } response)
+            {
+                _tokens.Add(response.SecurityToken.TokenId, TimeSpan.FromMilliseconds(Math.Max(1000u, response.SecurityToken.RevisedLifetime)));
+            }
+        }
+        catch (UaDecodingException)
+        {
+            // The waiting OpenSecureChannel call decodes it again and reports the error.
         }
     }
 

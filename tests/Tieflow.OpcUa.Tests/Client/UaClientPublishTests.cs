@@ -136,6 +136,44 @@ public sealed class UaClientPublishTests
     }
 
     [Fact]
+    public async Task Reconnect_ServerRestartedWithOtherNamespaceOrder_SequenceOfSpecAndNodesReResolvedByUri()
+    {
+        await using var peer = new ScriptedSessionServer();
+        await using var client = new UaClient(Options(peer));
+        await client.ConnectAsync();
+        var subscription = await SubscribeAsync(client);
+        var first = peer.Server.Received.OfType<CreateMonitoredItemsRequest>().Single();
+        Assert.Equal(NodeId.Parse("ns=2;s=Flow"), first.ItemsToCreate[0].ItemToMonitor.NodeId);
+
+        peer.NamespaceArray = ["http://opcfoundation.org/UA/", "urn:test:server", "urn:test:other", "urn:test:plant"];
+        peer.Restart();
+        var gap = await NextAsync<UaDataGap>(subscription);
+        Assert.Contains("recreated", gap.Reason, StringComparison.Ordinal);
+
+        // OPC 10000-4 §6.7 (digest §1.13): reactivate, else new session + TransferSubscriptions, else recreate.
+        var after = peer.Server.Received.SkipWhile(r => r != first).Skip(1).Where(r => r is not PublishRequest and not OpenSecureChannelRequest)
+            .Select(r => r.GetType().Name.Replace("Request", string.Empty, StringComparison.Ordinal)).ToArray();
+        Assert.Equal(["GetEndpoints", "ActivateSession", "CreateSession", "ActivateSession", "Read", "TransferSubscriptions", "CreateSubscription", "CreateMonitoredItems"], after);
+        var second = peer.Server.Received.OfType<CreateMonitoredItemsRequest>().Last();
+        Assert.Equal(NodeId.Parse("ns=3;s=Flow"), second.ItemsToCreate[0].ItemToMonitor.NodeId);
+        Assert.Contains("urn:test:other", client.NamespaceUris);
+    }
+
+    [Fact]
+    public async Task Watchdog_NoSubscriptions_ReadsServerStateToKeepTheSessionAlive()
+    {
+        await using var peer = new ScriptedSessionServer();
+        await using var client = new UaClient(Options(peer) with { SessionTimeout = TimeSpan.FromSeconds(1.2) });
+        await client.ConnectAsync();
+        for (var i = 0; i < 300 && !peer.Server.Received.OfType<ReadRequest>().Any(r => r.NodesToRead[0].NodeId == WellKnownNodes.ServerStatusState); i++)
+        {
+            await Task.Delay(10);
+        }
+
+        Assert.Contains(peer.Server.Received.OfType<ReadRequest>(), r => r.NodesToRead[0].NodeId == WellKnownNodes.ServerStatusState);
+    }
+
+    [Fact]
     public void PublicApi_NoWriteOrCallOperation()
     {
         // Tieflow is read-only towards the plant: no public client method writes or calls.

@@ -1,6 +1,7 @@
 using Tieflow.OpcUa.Client;
 using Tieflow.OpcUa.Encoding;
 using Tieflow.OpcUa.Server;
+using Tieflow.OpcUa.Tests.Fakes;
 using SubscriptionSettings = Tieflow.OpcUa.Client.SubscriptionSettings;
 
 namespace Tieflow.OpcUa.Tests.Client;
@@ -148,6 +149,87 @@ public sealed class UaClientTests : IAsyncLifetime
             Assert.Contains(UaConnectionState.Reconnecting, states);
             Assert.Equal(UaConnectionState.Connected, states[^1]);
         }
+    }
+
+    [Fact]
+    public async Task Reconnect_LinkCut_SessionReactivatedSameSubscription()
+    {
+        await using var proxy = new TcpProxy(_server.Port);
+        var reasons = new List<string>();
+        await using var client = new UaClient(Options() with { EndpointUrl = new Uri($"opc.tcp://127.0.0.1:{proxy.Port}/sim") });
+        client.StateChanged += (_, e) =>
+        {
+            lock (reasons)
+            {
+                reasons.Add(e.Message);
+            }
+        };
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(100), MaxKeepAliveCount = 5 },
+            [new MonitoredNode { Node = _flow, Key = "flow" }]);
+        await NextDataAsync(subscription);
+        var id = subscription.SubscriptionId;
+
+        proxy.Cut();
+        await WaitForReconnectAsync(client);
+        _server.UpdateValue(_flow, Variant.From(8.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
+        UaDataChange change;
+        do
+        {
+            change = await NextDataAsync(subscription);
+        }
+        while (Math.Abs((double)change.Value.Value! - 8.0) > 1e-12);
+
+        Assert.Equal(id, subscription.SubscriptionId);
+        lock (reasons)
+        {
+            Assert.Contains(reasons, r => r.Contains("session was reactivated", StringComparison.Ordinal));
+        }
+    }
+
+    [Fact]
+    public async Task Watchdog_LinkFrozen_NoticedAndRecoveredOverNewConnection()
+    {
+        await using var proxy = new TcpProxy(_server.Port);
+        var reasons = new List<(UaConnectionState State, StatusCode Reason)>();
+        await using var client = new UaClient(Options() with { EndpointUrl = new Uri($"opc.tcp://127.0.0.1:{proxy.Port}/sim") });
+        client.StateChanged += (_, e) =>
+        {
+            lock (reasons)
+            {
+                reasons.Add((e.State, e.Reason));
+            }
+        };
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(100), MaxKeepAliveCount = 3 },
+            [new MonitoredNode { Node = _flow, Key = "flow" }]);
+        await NextDataAsync(subscription);
+
+        // The socket stays open but nothing flows: only the keep-alive watchdog can notice.
+        proxy.Freeze();
+        await WaitForReconnectAsync(client);
+        lock (reasons)
+        {
+            Assert.Contains((UaConnectionState.Reconnecting, StatusCodes.BadTimeout), reasons);
+        }
+
+        _server.UpdateValue(_flow, Variant.From(9.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
+        UaDataChange change;
+        do
+        {
+            change = await NextDataAsync(subscription);
+        }
+        while (Math.Abs((double)change.Value.Value! - 9.0) > 1e-12);
+    }
+
+    private static async Task WaitForReconnectAsync(UaClient client)
+    {
+        for (var i = 0; i < 1000 && client.ReconnectCount == 0; i++)
+        {
+            await Task.Delay(10);
+        }
+
+        Assert.Equal(1, client.ReconnectCount);
     }
 
     private static async Task<UaDataChange> NextDataAsync(UaSubscription subscription) => await NextAsync<UaDataChange>(subscription);

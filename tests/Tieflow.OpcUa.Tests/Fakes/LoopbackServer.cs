@@ -45,11 +45,33 @@ internal sealed class LoopbackServer : IAsyncDisposable
     /// </summary>
     public Func<IServiceRequest, Func<IServiceResponse, Task>, IServiceResponse?>? DeferringHandler { get; set; }
 
-    /// <summary>Every request received, in order (OPN included).</summary>
-    public List<IServiceRequest> Received { get; } = [];
+    private readonly List<IServiceRequest> _received = [];
 
-    /// <summary>Every token id seen on incoming MSG chunks.</summary>
-    public List<uint> TokensSeen { get; } = [];
+    /// <summary>A copy of every request received so far, in order (OPN included).</summary>
+    public IReadOnlyList<IServiceRequest> Received
+    {
+        get
+        {
+            lock (_received)
+            {
+                return [.. _received];
+            }
+        }
+    }
+
+    private readonly List<uint> _tokensSeen = [];
+
+    /// <summary>A copy of every token id seen on incoming MSG chunks.</summary>
+    public IReadOnlyList<uint> TokensSeen
+    {
+        get
+        {
+            lock (_tokensSeen)
+            {
+                return [.. _tokensSeen];
+            }
+        }
+    }
 
     public int HelloCount { get; private set; }
 
@@ -141,9 +163,9 @@ internal sealed class LoopbackServer : IAsyncDisposable
                     var frame = await TcpFrameReader.ReadAsync(stream, limits.ReceiveBufferSize, server._stop.Token);
                     if (frame.MessageType == TcpMessageType.Message)
                     {
-                        lock (server.TokensSeen)
+                        lock (server._tokensSeen)
                         {
-                            server.TokensSeen.Add(BitConverter.ToUInt32(frame.Buffer, 12));
+                            server._tokensSeen.Add(BitConverter.ToUInt32(frame.Buffer, 12));
                         }
                     }
 
@@ -160,9 +182,9 @@ internal sealed class LoopbackServer : IAsyncDisposable
                     }
 
                     var request = (IServiceRequest)MessageCodec.Decode(message.Body);
-                    lock (server.Received)
+                    lock (server._received)
                     {
-                        server.Received.Add(request);
+                        server._received.Add(request);
                     }
 
                     if (request is OpenSecureChannelRequest opn)

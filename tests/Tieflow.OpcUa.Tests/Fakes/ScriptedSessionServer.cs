@@ -25,7 +25,33 @@ internal sealed class ScriptedSessionServer : IAsyncDisposable
     public Func<RepublishRequest, IServiceResponse> Republish { get; set; } =
         _ => new ServiceFault { ResponseHeader = new ResponseHeader { ServiceResult = StatusCodes.BadMessageNotAvailable } };
 
-    public List<uint> Acknowledged { get; } = [];
+    private readonly List<uint> _acknowledged = [];
+
+    public IReadOnlyList<uint> Acknowledged
+    {
+        get
+        {
+            lock (_acknowledged)
+            {
+                return [.. _acknowledged];
+            }
+        }
+    }
+
+    public string[] NamespaceArray { get; set; } = ["http://opcfoundation.org/UA/", "urn:test:server", "urn:test:plant"];
+
+    private byte _generation = 1;
+
+    /// <summary>Forgets every session (as a restarted server does) and drops the connections.</summary>
+    public void Restart()
+    {
+        _generation++;
+        while (_parked.TryDequeue(out _))
+        {
+        }
+
+        Server.DropConnections();
+    }
 
     public int ParkedCount => _parked.Count;
 
@@ -72,14 +98,21 @@ internal sealed class ScriptedSessionServer : IAsyncDisposable
                     ],
                 };
             case CreateSessionRequest:
-                return new CreateSessionResponse { SessionId = new NodeId(1u, 1), AuthenticationToken = new NodeId([1, 2, 3, 4], 0), RevisedSessionTimeout = 60000, ServerNonce = new byte[32] };
-            case ActivateSessionRequest:
-                return new ActivateSessionResponse { ServerNonce = new byte[32] };
+                return new CreateSessionResponse { SessionId = new NodeId(1u, 1), AuthenticationToken = new NodeId([1, 2, 3, _generation], 0), RevisedSessionTimeout = 60000, ServerNonce = new byte[32] };
+            case ActivateSessionRequest activate:
+                return activate.RequestHeader.AuthenticationToken == new NodeId([1, 2, 3, _generation], 0)
+                    ? new ActivateSessionResponse { ServerNonce = new byte[32] }
+                    : new ServiceFault { ResponseHeader = new ResponseHeader { ServiceResult = StatusCodes.BadSessionIdInvalid } };
+            case TransferSubscriptionsRequest transfer:
+                return new TransferSubscriptionsResponse
+                {
+                    Results = transfer.SubscriptionIds.Select(_ => new TransferResult { StatusCode = StatusCodes.BadSubscriptionIdInvalid }).ToArray(),
+                };
             case ReadRequest read:
                 return new ReadResponse
                 {
                     Results = read.NodesToRead.Select(n => n.NodeId == new NodeId(2255u)
-                        ? new DataValue { Value = Variant.From(new[] { "http://opcfoundation.org/UA/", "urn:test:server", "urn:test:plant" }) }
+                        ? new DataValue { Value = Variant.From(NamespaceArray) }
                         : new DataValue { Value = Variant.From(1.0) }).ToArray(),
                 };
             case CreateSubscriptionRequest create:
@@ -97,9 +130,9 @@ internal sealed class ScriptedSessionServer : IAsyncDisposable
                     }).ToArray(),
                 };
             case PublishRequest publish:
-                lock (Acknowledged)
+                lock (_acknowledged)
                 {
-                    Acknowledged.AddRange(publish.SubscriptionAcknowledgements.Select(a => a.SequenceNumber));
+                    _acknowledged.AddRange(publish.SubscriptionAcknowledgements.Select(a => a.SequenceNumber));
                 }
 
                 _parked.Enqueue((publish, reply));
