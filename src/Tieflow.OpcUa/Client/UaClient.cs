@@ -18,7 +18,6 @@ public sealed class UaClient : IAsyncDisposable
     private const string TransportProfileUri = "http://opcfoundation.org/UA-Profile/Transport/uatcp-uasc-uabinary";
     private readonly UaClientOptions _options;
     private readonly TimeProvider _time;
-    private readonly SemaphoreSlim _sessionLock = new(1, 1);
     private readonly ConcurrentQueue<SubscriptionAcknowledgement> _acks = new();
     private readonly List<UaSubscription> _subscriptions = [];
     private readonly SemaphoreSlim _subscriptionAdded = new(0);
@@ -1141,6 +1140,5 @@ public sealed class UaClient : IAsyncDisposable
     {
         await CloseAsync().ConfigureAwait(false);
         _closing.Dispose();
-        _sessionLock.Dispose();
     }
 }

@@ -13,6 +13,7 @@ public sealed class UaClientTests : IAsyncLifetime
     private UaServer _server = null!;
     private NodeId _flow;
     private NodeId _tags;
+    private NodeId _level;
 
     private static UaServer NewServer(int port) =>
         new(new UaServerOptions { Port = port, ResourcePath = "/sim", NamespaceUri = "urn:test:plant", Users = new Dictionary<string, string> { ["operator"] = "s3cret-Pw" } });
@@ -22,6 +23,7 @@ public sealed class UaClientTests : IAsyncLifetime
         var plant = _server.AddFolder(UaServer.ObjectsFolder, "Plant");
         var unit = _server.AddObject(plant, "Unit1");
         _flow = _server.AddVariable(unit, "Flow", Variant.From(1.0));
+        _level = _server.AddVariable(unit, "Level", Variant.From(50.0), new UaVariableOptions { EngineeringUnitsRange = (0, 200) });
         _tags = _server.AddFolder(plant, "Tags");
         for (var i = 0; i < 120; i++)
         {
@@ -87,6 +89,45 @@ public sealed class UaClientTests : IAsyncLifetime
         Assert.Equal(12.5, (double)change.Value.Value!, 12);
         Assert.Equal(StatusCodes.BadSensorFailure, change.Status);
         Assert.Equal(sourceTime, change.SourceTime);
+    }
+
+    [Fact]
+    public async Task SubscribeAsync_Deadbands_PerItemResultsThenModifyAndRemove()
+    {
+        await using var client = new UaClient(Options());
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(100) },
+        [
+            new MonitoredNode { Node = _level, Key = "level-pct", DeadbandType = DeadbandType.Percent, DeadbandValue = 10 },
+            new MonitoredNode { Node = _flow, Key = "flow-pct", DeadbandType = DeadbandType.Percent, DeadbandValue = 10 },
+            new MonitoredNode { Node = _flow, Key = "flow-abs", DeadbandType = DeadbandType.Absolute, DeadbandValue = 0.5 },
+            new MonitoredNode { Node = NodeId.Parse("ns=2;s=Nope"), Key = "nope" },
+        ]);
+        var items = subscription.Items.ToDictionary(i => i.Key);
+        Assert.True(items["level-pct"].Status.IsGood);
+        Assert.Equal(StatusCodes.BadMonitoredItemFilterUnsupported, items["flow-pct"].Status); // no EURange (digest §1.10)
+        Assert.True(items["flow-abs"].Status.IsGood);
+        Assert.Equal(StatusCodes.BadNodeIdUnknown, items["nope"].Status);
+
+        // Absolute deadband 0.5 (digest §1.10): 1.0 → 1.3 is not reported, 1.0 → 1.6 is.
+        await NextDataAsync(subscription);
+        var t = new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc);
+        _server.UpdateValue(_flow, Variant.From(1.3), StatusCodes.Good, t);
+        await Task.Delay(300);
+        _server.UpdateValue(_flow, Variant.From(1.6), StatusCodes.Good, t.AddSeconds(1));
+        UaDataChange change;
+        do
+        {
+            change = await NextDataAsync(subscription);
+            Assert.False(change.Key == "flow-abs" && Math.Abs((double)change.Value.Value! - 1.3) < 1e-12, "a change within the deadband was reported");
+        }
+        while (change.Key != "flow-abs" || Math.Abs((double)change.Value.Value! - 1.6) > 1e-12);
+
+        await subscription.ModifyAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(200), MaxKeepAliveCount = 4 });
+        Assert.Equal(TimeSpan.FromMilliseconds(200), subscription.PublishingInterval);
+        Assert.Equal(4u, subscription.KeepAliveCount);
+        await subscription.RemoveNodesAsync(["flow-abs", "nope"]);
+        Assert.Equal(["level-pct", "flow-pct"], subscription.Items.Select(i => i.Key));
     }
 
     [Fact]

@@ -36,6 +36,9 @@ internal sealed class LoopbackServer : IAsyncDisposable
 
     public uint RevisedLifetimeMs { get; set; } = 600_000;
 
+    /// <summary>False to send responses over the client's MaxMessageSize anyway (a misbehaving peer).</summary>
+    public bool HonourClientMessageSize { get; set; } = true;
+
     /// <summary>Answers a request; null parks it.</summary>
     public Func<IServiceRequest, IServiceResponse?> Handler { get; set; } = _ => null;
 
@@ -153,8 +156,8 @@ internal sealed class LoopbackServer : IAsyncDisposable
                 _codec = new SecureChannelCodec(limits)
                 {
                     PeerReceiveBufferSize = (int)ack.SendBufferSize,
-                    PeerMaxMessageSize = h.MaxMessageSize,
-                    PeerMaxChunkCount = h.MaxChunkCount,
+                    PeerMaxMessageSize = server.HonourClientMessageSize ? h.MaxMessageSize : 0,
+                    PeerMaxChunkCount = server.HonourClientMessageSize ? h.MaxChunkCount : 0,
                     ReceiveTooLargeStatus = StatusCodes.BadRequestTooLarge,
                 };
                 uint tokenId = 0;

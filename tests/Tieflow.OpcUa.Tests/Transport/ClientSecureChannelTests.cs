@@ -42,6 +42,35 @@ public sealed class ClientSecureChannelTests
     }
 
     [Fact]
+    public async Task SendAsync_ResponseOverLocalMessageSize_OnlyThatRequestFails()
+    {
+        var limits = new TransportLimits { MaxMessageSize = 100_000 };
+        await using var server = new LoopbackServer { HonourClientMessageSize = false, Handler = r => r is ReadRequest read ? Answer(read) : null };
+        await using var channel = new ClientSecureChannel(new ClientChannelSettings { EndpointUrl = server.Url, Limits = limits }, TimeProvider.System);
+        await channel.OpenAsync(CancellationToken.None);
+
+        // 10 000 results of 16 bytes each: about 160 kB, over the client's 100 kB.
+        var big = new ReadRequest { RequestHeader = channel.NewHeader(NodeId.Null, Timeout), NodesToRead = Enumerable.Range(0, 10_000).Select(i => new ReadValueId { NodeId = new NodeId((uint)i) }).ToArray() };
+        var ex = await Assert.ThrowsAsync<ServiceResultException>(() => channel.SendAsync<ReadResponse>(big, Timeout, CancellationToken.None));
+        Assert.Equal(StatusCodes.BadResponseTooLarge, ex.Status);
+
+        var small = new ReadRequest { RequestHeader = channel.NewHeader(NodeId.Null, Timeout), NodesToRead = [new ReadValueId { NodeId = new NodeId(1u) }] };
+        Assert.Single((await channel.SendAsync<ReadResponse>(small, Timeout, CancellationToken.None)).Results);
+    }
+
+    [Fact]
+    public async Task SendAsync_RequestOverServerMessageSize_BadRequestTooLargeNothingSent()
+    {
+        await using var server = new LoopbackServer(new TransportLimits { MaxMessageSize = 10_000 }) { Handler = r => r is ReadRequest read ? Answer(read) : null };
+        await using var channel = new ClientSecureChannel(new ClientChannelSettings { EndpointUrl = server.Url }, TimeProvider.System);
+        await channel.OpenAsync(CancellationToken.None);
+        var big = new ReadRequest { RequestHeader = channel.NewHeader(NodeId.Null, Timeout), NodesToRead = Enumerable.Range(0, 2000).Select(i => new ReadValueId { NodeId = new NodeId((uint)i) }).ToArray() };
+        var ex = await Assert.ThrowsAsync<ServiceResultException>(() => channel.SendAsync<ReadResponse>(big, Timeout, CancellationToken.None));
+        Assert.Equal(StatusCodes.BadRequestTooLarge, ex.Status);
+        Assert.True(channel.IsOpen);
+    }
+
+    [Fact]
     public async Task SendAsync_NoAnswer_BadRequestTimeoutOnFakeClock()
     {
         var time = new FakeTimeProvider(new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero));
