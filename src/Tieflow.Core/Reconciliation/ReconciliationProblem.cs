@@ -83,6 +83,7 @@ public sealed class ReconciliationProblem
     private readonly bool[] _observable;
     private readonly bool[] _redundant;
     private readonly double[] _h;
+    private readonly double[] _bsel;
     private readonly double[] _k;
     private readonly double[] _column1;
     private readonly bool _useMasks;
@@ -97,6 +98,7 @@ public sealed class ReconciliationProblem
     private int _q;
     private int _redundantCount;
     private bool _linearPrepared;
+    private bool _balancesCurrent;
 
     private ReconciliationProblem(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions options)
     {
@@ -236,6 +238,7 @@ public sealed class ReconciliationProblem
         _observable = new bool[_nu];
         _redundant = new bool[_nx];
         _h = new double[_m * _nx];
+        _bsel = new double[_m * _nx];
         _k = new double[_nu * _nx];
         _column1 = new double[Math.Max(_m, 1)];
         _positionOf = new int[_nu];
@@ -398,12 +401,8 @@ public sealed class ReconciliationProblem
         if (_nc == 0)
         {
             // Linear: the projection depends on the structure and the sigmas only, so it is factorised once.
-            SetMeasuredToReadings();
             Array.Clear(_z);
-            for (int i = 0; i < _nx; i++)
-            {
-                _z[_varOfMeasurement[i]] = _y[i];
-            }
+            SetMeasuredToReadings();
 
             if (!_linearPrepared)
             {
@@ -459,6 +458,7 @@ public sealed class ReconciliationProblem
 
     private void SetMeasuredToReadings()
     {
+        _balancesCurrent = false;
         for (int i = 0; i < _nx; i++)
         {
             _z[_varOfMeasurement[i]] = _y[i];
@@ -628,6 +628,7 @@ public sealed class ReconciliationProblem
 
     private void UpdateDependents()
     {
+        _balancesCurrent = false;
         for (int s = 0; s < _dependentOf.Length; s++)
         {
             int d = _dependentOf[s];
@@ -728,6 +729,7 @@ public sealed class ReconciliationProblem
     // Balance residuals f(z) and, per balance, the sum of the absolute terms (for relative residuals).
     private void EvaluateBalances()
     {
+        _balancesCurrent = true;
         int nn = _network.Nodes.Count;
         Array.Clear(_f);
         Array.Clear(_scale);
@@ -1016,6 +1018,17 @@ public sealed class ReconciliationProblem
 
             _q = k + 1;
         }
+
+        // The selected projected rows, contiguous per measured column, for the vector kernels of the step.
+        for (int k = 0; k < _nx; k++)
+        {
+            Span<double> target = _bsel.AsSpan(k * m, _q);
+            int baseIndex = (k * m) + r;
+            for (int i = 0; i < _q; i++)
+            {
+                target[i] = _ax[baseIndex + _gsel[i]];
+            }
+        }
     }
 
     private void ForwardSolve(Span<double> x)
@@ -1069,7 +1082,11 @@ public sealed class ReconciliationProblem
     {
         int m = _m;
         int r = _rank;
-        EvaluateBalances();
+        if (!_balancesCurrent)
+        {
+            EvaluateBalances();
+        }
+
         _f.CopyTo(_qtf, 0);
         ApplyQTranspose(_qtf);
 
@@ -1087,11 +1104,7 @@ public sealed class ReconciliationProblem
                 continue;
             }
 
-            int baseIndex = (k * m) + r;
-            for (int i = 0; i < _q; i++)
-            {
-                rp[i] += _ax[baseIndex + _gsel[i]] * d;
-            }
+            DenseKernels.Axpy(d, _bsel.AsSpan(k * m, _q), rp);
         }
 
         Span<double> mu = _mu.AsSpan(0, _q);
@@ -1109,13 +1122,7 @@ public sealed class ReconciliationProblem
         double step = 0;
         for (int k = 0; k < _nx; k++)
         {
-            int baseIndex = (k * m) + r;
-            double sum = 0;
-            for (int i = 0; i < _q; i++)
-            {
-                sum += _ax[baseIndex + _gsel[i]] * mu[i];
-            }
-
+            double sum = DenseKernels.Dot(_bsel.AsSpan(k * m, _q), mu);
             double xNew = _y[k] - (_sigma2[k] * sum);
             int variable = _varOfMeasurement[k];
             _dx[k] = xNew - _z[variable];
@@ -1159,6 +1166,7 @@ public sealed class ReconciliationProblem
         }
 
         UpdateDependents();
+        _balancesCurrent = false;
         return step;
     }
 
@@ -1174,11 +1182,11 @@ public sealed class ReconciliationProblem
         for (int k = 0; k < _nx; k++)
         {
             Span<double> h = _h.AsSpan(k * m, q);
-            int baseIndex = (k * m) + r;
+            ReadOnlySpan<double> b = _bsel.AsSpan(k * m, q);
             double s2 = _sigma2[k];
             for (int i = 0; i < q; i++)
             {
-                h[i] = s2 * _ax[baseIndex + _gsel[i]];
+                h[i] = s2 * b[i];
             }
 
             ForwardSolve(h);

@@ -147,6 +147,38 @@ internal static class ReconcileCaseReader
         return node;
     }
 
+    // "sigma" in the unit of the reading, or "relativeSigma" as a fraction of the reading (0.02 for 2 %); exactly one.
+    private static double? ReadSigma(JsonObject m, double? reading)
+    {
+        bool hasAbsolute = m.Has("sigma"), hasRelative = m.Has("relativeSigma");
+        if (hasAbsolute == hasRelative)
+        {
+            m.Fail(hasAbsolute
+                ? "give either \"sigma\" (in the unit of the reading) or \"relativeSigma\" (a fraction of the reading), not both"
+                : "the standard deviation is missing; give \"sigma\" (in the unit of the reading) or \"relativeSigma\" (a fraction of the reading)");
+            return null;
+        }
+
+        if (hasAbsolute)
+        {
+            return m.Get("sigma")!.Value.AsNumber(0, double.PositiveInfinity, minExclusive: true, unit: "(the standard deviation of the reading, in its unit)");
+        }
+
+        double? relative = m.Get("relativeSigma")!.Value.AsNumber(0, 1, minExclusive: true, unit: "(a fraction of the reading)");
+        if (relative is not double r || reading is not double v)
+        {
+            return null;
+        }
+
+        if (v == 0)
+        {
+            m.Fail("relativeSigma", "a relative sigma of a zero reading is zero, which gives the reading infinite weight; give \"sigma\" instead");
+            return null;
+        }
+
+        return Math.Abs(v) * r;
+    }
+
     private static List<Measurement>? ReadMeasurements(JsonValue value, List<NetworkStream>? streams, List<string>? components)
     {
         if (value.AsArray(0) is not { } items)
@@ -161,7 +193,7 @@ internal static class ReconcileCaseReader
         bool ok = true;
         for (int i = 0; i < items.Count; i++)
         {
-            if (items[i].AsObject("stream", "quantity", "component", "value", "sigma") is not { } m)
+            if (items[i].AsObject("stream", "quantity", "component", "value", "sigma", "relativeSigma") is not { } m)
             {
                 ok = false;
                 continue;
@@ -207,7 +239,7 @@ internal static class ReconcileCaseReader
                 reading = m.Get("value")?.AsNumber(0, 1, unit: "(a fraction)");
             }
 
-            double? sigma = m.Get("sigma")?.AsNumber(0, double.PositiveInfinity, minExclusive: true, unit: "(the standard deviation of the reading, in its unit)");
+            double? sigma = ReadSigma(m, reading);
             if (stream is null || quantity is null || (quantity == "fraction" && component is null) || reading is null || sigma is null)
             {
                 ok = false;

@@ -49,6 +49,9 @@ public sealed class ReconcileBadInputTests
         { "fraction in a flow-only network", Case.Replace("\"components\": [\"a\", \"b\"],", string.Empty), "$.measurements[3].quantity", "no components" },
         { "flow as text", Case.Replace("\"value\": 100", "\"value\": \"100\""), "$.measurements[0].value", "expected a finite number" },
         { "significance out of range", Case.Replace("\"nodes\":", "\"significance\": 0.7, \"nodes\":"), "$.significance", "above 0 and at most 0.5" },
+        { "sigma missing", Case.Replace(", \"sigma\": 0.01", string.Empty), "$.measurements[3]", "standard deviation is missing" },
+        { "sigma and relative sigma", Case.Replace("\"sigma\": 0.01", "\"sigma\": 0.01, \"relativeSigma\": 0.02"), "$.measurements[3]", "not both" },
+        { "relative sigma of a zero reading", Case.Replace("\"value\": 100, \"sigma\": 1", "\"value\": 0, \"relativeSigma\": 0.01"), "$.measurements[0].relativeSigma", "zero reading" },
         { "measurements missing", Case[..Case.IndexOf(",\n  \"measurements\"", StringComparison.Ordinal)] + "}", "$.measurements", "required key is missing" },
     };
 
@@ -90,6 +93,31 @@ public sealed class ReconcileBadInputTests
         Assert.Contains("$.measurements[1].sigma", run.Error, StringComparison.Ordinal);
         Assert.Contains("$.measurements[3].component", run.Error, StringComparison.Ordinal);
         Assert.Contains("$.streams[1].to", run.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Calc_RelativeSigma_IsAFractionOfTheReading()
+    {
+        // S1 = S2 = S3 with sigma 2 % of each reading: the flows reconcile to the weighted mean (weights 1/sigma^2);
+        // the readings are close enough for the global test to pass, so nothing is eliminated.
+        using var folder = new TempFolder();
+        string file = folder.Write("case.json", """
+            { "nodes": ["N1", "N2"], "streams": [{ "id": "S1", "to": "N1" }, { "id": "S2", "from": "N1", "to": "N2" }, { "id": "S3", "from": "N2" }],
+              "measurements": [
+                { "stream": "S1", "quantity": "flow", "value": 100, "relativeSigma": 0.02 },
+                { "stream": "S2", "quantity": "flow", "value": 98, "relativeSigma": 0.02 },
+                { "stream": "S3", "quantity": "flow", "value": 102, "sigma": 2.04 } ] }
+            """);
+
+        CliRun run = CliRun.Of("calc", "reconcile", "--case", file, "--json");
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        using var doc = System.Text.Json.JsonDocument.Parse(run.Output);
+        double[] sigma = [2.0, 1.96, 2.04];
+        double[] value = [100, 98, 102];
+        double mean = value.Select((v, i) => v / (sigma[i] * sigma[i])).Sum() / sigma.Sum(s => 1 / (s * s));
+        double reconciled = doc.RootElement.GetProperty("streams")[0].GetProperty("flow").GetProperty("value").GetDouble();
+        Assert.True(Math.Abs(reconciled - mean) < 1e-9, $"{reconciled} vs {mean}");
     }
 
     [Fact]

@@ -516,7 +516,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         beta = 0.5;
         double change = double.PositiveInfinity;
         int done = 0;
-        bool newtonTried = false;
+        int attempts = 0;
+        double switchAt = NewtonSwitch;
         while (true)
         {
             for (; done < substitutionSteps; done++)
@@ -580,23 +581,37 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
 
                 stepK.CopyTo(previousStep);
-                if (!newtonTried && change < NewtonSwitch && done >= 2 && beta > 0 && beta < 1)
+                if (change < switchAt && done >= 2 && beta > 0 && beta < 1)
                 {
                     done++;
                     break;
                 }
             }
 
-            if (newtonTried || !RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
+            if (!RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
             {
                 return false;
             }
 
-            newtonTried = true;
             PhasesFromK(z, lnK, beta, xa, xb);
+            if (Newton(state, z, xa, xb, ref beta, ref iterations))
+            {
+                return true;
+            }
 
-            // When Newton does not make it the caller falls back on the traced tie lines.
-            return Newton(state, z, xa, xb, ref beta, ref iterations);
+            // Newton stopped early: substitute closer, then try once more; after that the caller falls back on the
+            // traced tie lines.
+            attempts++;
+            if (attempts >= 2 || done >= substitutionSteps)
+            {
+                return false;
+            }
+
+            switchAt *= 0.01;
+            if (!RachfordRice(z, lnK, ref beta))
+            {
+                return false;
+            }
         }
     }
 
@@ -617,6 +632,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
             na[i] = z[i] - nb[i];
         }
 
+        double previousResidual = double.PositiveInfinity;
+        int slow = 0;
         for (int it = 0; it < MaxIterations; it++)
         {
             iterations++;
@@ -631,6 +648,16 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 beta = nb[0] + nb[1] + nb[2];
                 return beta > 0 && beta < 1 && Distance(xa, xb) > TrivialDistance;
             }
+
+            // Newton converges fast or not at all: three steps in a row that do not halve the residual mean it is
+            // headed for a phase that vanishes or a start too far off (substitution near the plait point), so stop early.
+            slow = residual > 0.5 * previousResidual ? slow + 1 : 0;
+            if (slow >= 3)
+            {
+                return false;
+            }
+
+            previousResidual = residual;
 
             // d f / d nb = -(d mu_a / d na) - (d mu_b / d nb), with na = z - nb.
             for (int k = 0; k < N * N; k++)
