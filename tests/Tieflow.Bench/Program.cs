@@ -1,9 +1,20 @@
+using System.Globalization;
 using BenchmarkDotNet.Running;
+using Tieflow.Bench.OpcUa;
 
 namespace Tieflow.Bench;
 
 /// <summary>Runs the benchmarks chosen on the command line: <c>dotnet run -c Release --project tests/Tieflow.Bench -- --filter '*'</c>.</summary>
 public static class Program
 {
-    public static void Main(string[] args) => BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
+    public static async Task Main(string[] args)
+    {
+        if (args.Length > 0 && args[0] == "latency")
+        {
+            await NotificationLatencyProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 20);
+            return;
+        }
+
+        BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
+    }
 }

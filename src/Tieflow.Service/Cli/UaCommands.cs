@@ -1,0 +1,90 @@
+using System.CommandLine;
+using Tieflow.OpcUa.Encoding;
+
+namespace Tieflow.Service.Cli;
+
+/// <summary>
+/// The <c>ua</c> command group (CONTRACTS.md): an engineer's first check that Tieflow can see a plant's OPC UA
+/// server. Read-only: browse, read and watch.
+/// </summary>
+internal static class UaCommands
+{
+    public static Command Create(CliContext context)
+    {
+        var ua = new Command("ua", "Checks an OPC UA server: browse its nodes, read values, watch data changes (read-only).");
+        ua.Subcommands.Add(Browse(context));
+        ua.Subcommands.Add(Read(context));
+        ua.Subcommands.Add(Watch(context));
+        return ua;
+    }
+
+    private static Option<string> Endpoint() => new("--endpoint") { Description = "Server endpoint URL, e.g. opc.tcp://host:4840/path", Required = true, HelpName = "URL" };
+
+    private static Option<string?> User() => new("--user")
+    {
+        Description = "User name; the password is read from the environment variable " + UaSession.PasswordVariable,
+        HelpName = "NAME",
+    };
+
+    private static Command Browse(CliContext context)
+    {
+        Option<string> endpoint = Endpoint();
+        Option<string?> user = User();
+        Option<string> node = new("--node") { Description = "Node to start from (default the Objects folder, i=85)", HelpName = "NODEID", DefaultValueFactory = _ => "i=85" };
+        Option<int> depth = new("--depth") { Description = "Levels to descend (default 1)", HelpName = "N", DefaultValueFactory = _ => 1 };
+        Option<bool> json = CommonOptions.Json();
+        var command = new Command("browse", "Browses from a node: browse names, NodeIds, node classes and data types.") { endpoint, node, depth, user, json };
+        command.SetAction(parsed => Run(context, () => UaBrowseHandler.Run(context,
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)),
+            parsed.GetValue(node)!, parsed.GetValue(depth), parsed.GetValue(json))));
+        return command;
+    }
+
+    private static Command Read(CliContext context)
+    {
+        Option<string> endpoint = Endpoint();
+        Option<string?> user = User();
+        Option<string[]> nodes = new("--node") { Description = "Node to read (repeat the option for several)", HelpName = "NODEID", Required = true, AllowMultipleArgumentsPerToken = false };
+        Option<bool> json = CommonOptions.Json();
+        var command = new Command("read", "Reads current values with their status and timestamps.") { endpoint, nodes, user, json };
+        command.SetAction(parsed => Run(context, () => UaReadHandler.Run(context,
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)),
+            parsed.GetValue(nodes)!, parsed.GetValue(json))));
+        return command;
+    }
+
+    private static Command Watch(CliContext context)
+    {
+        Option<string> endpoint = Endpoint();
+        Option<string?> user = User();
+        Option<string[]> nodes = new("--node") { Description = "Node to watch (repeat the option for several)", HelpName = "NODEID", Required = true };
+        Option<TimeSpan> sampling = new("--sampling") { Description = "Sampling and publishing interval (default 00:00:01)", HelpName = "TIMESPAN", DefaultValueFactory = _ => TimeSpan.FromSeconds(1) };
+        Option<TimeSpan?> duration = new("--for") { Description = "Stop cleanly after this long (default: until Ctrl+C)", HelpName = "TIMESPAN" };
+        Option<bool> json = CommonOptions.Json();
+        var command = new Command("watch", "Subscribes and prints each data change, reconnecting by itself if the server goes away.") { endpoint, nodes, sampling, duration, user, json };
+        command.SetAction(parsed => Run(context, () => UaWatchHandler.Run(context,
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)),
+            parsed.GetValue(nodes)!, parsed.GetValue(sampling), parsed.GetValue(duration), parsed.GetValue(json))));
+        return command;
+    }
+
+    /// <summary>Maps the failures of the ua commands to their exit codes; everything else goes to <see cref="CommandRunner"/>.</summary>
+    private static int Run(CliContext context, Func<int> handler) => CommandRunner.Run(context, () =>
+    {
+        try
+        {
+            return handler();
+        }
+        catch (UaCliException e)
+        {
+            context.Error.WriteLine(e.ExitCode == ExitCodes.BadInput ? $"error: {e.Message}" : $"failed: {e.Message}");
+            return e.ExitCode;
+        }
+        catch (ServiceResultException e)
+        {
+            // The server answered but refused the request (unknown node, access denied...).
+            context.Error.WriteLine($"failed: {e.Message} ({e.Status})");
+            return ExitCodes.RuntimeFailure;
+        }
+    });
+}
