@@ -175,13 +175,7 @@ public sealed class UaClientTests : IAsyncLifetime
 
         var gap = await NextAsync<UaDataGap>(subscription);
         Assert.True(gap.To >= gap.From);
-        _server.UpdateValue(_flow, Variant.From(7.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
-        UaDataChange change;
-        do
-        {
-            change = await NextDataAsync(subscription);
-        }
-        while (Math.Abs((double)change.Value.Value! - 7.0) > 1e-12);
+        await AwaitResumedAsync(subscription, 7.0);
 
         Assert.True(DateTime.UtcNow - back < Wait, "notifications resumed within 10 s of the server being back");
         Assert.Equal(1, client.ReconnectCount);
@@ -213,13 +207,7 @@ public sealed class UaClientTests : IAsyncLifetime
 
         proxy.Cut();
         await WaitForReconnectAsync(client);
-        _server.UpdateValue(_flow, Variant.From(8.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
-        UaDataChange change;
-        do
-        {
-            change = await NextDataAsync(subscription);
-        }
-        while (Math.Abs((double)change.Value.Value! - 8.0) > 1e-12);
+        await AwaitResumedAsync(subscription, 8.0);
 
         Assert.Equal(id, subscription.SubscriptionId);
         lock (reasons)
@@ -254,13 +242,40 @@ public sealed class UaClientTests : IAsyncLifetime
             Assert.Contains((UaConnectionState.Reconnecting, StatusCodes.BadTimeout), reasons);
         }
 
-        _server.UpdateValue(_flow, Variant.From(9.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
-        UaDataChange change;
-        do
+        await AwaitResumedAsync(subscription, 9.0);
+    }
+
+    /// <summary>
+    /// Changes the value every 200 ms until a change at or above <paramref name="from"/> arrives: one message may be
+    /// lost with the old connection (then reported as a gap), but notifications must resume.
+    /// </summary>
+    private async Task AwaitResumedAsync(UaSubscription subscription, double from)
+    {
+        using var cts = new CancellationTokenSource(Wait);
+        var k = 0;
+        var changer = Task.Run(async () =>
         {
-            change = await NextDataAsync(subscription);
+            while (!cts.IsCancellationRequested)
+            {
+                _server.UpdateValue(_flow, Variant.From(from + k++), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc).AddSeconds(k));
+                await Task.Delay(200);
+            }
+        });
+        try
+        {
+            while (true)
+            {
+                if (await subscription.Events.ReadAsync(cts.Token) is UaDataChange { Value.Value: double v } && v >= from - 1e-12)
+                {
+                    return;
+                }
+            }
         }
-        while (Math.Abs((double)change.Value.Value! - 9.0) > 1e-12);
+        finally
+        {
+            await cts.CancelAsync();
+            await changer;
+        }
     }
 
     private static async Task WaitForReconnectAsync(UaClient client)
