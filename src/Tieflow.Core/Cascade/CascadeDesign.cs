@@ -20,7 +20,8 @@ namespace Tieflow.Core.Cascade;
 /// <para>The minimum solvent flow is where, between the final raffinate and the raffinate in equilibrium with the
 /// extract leaving stage 1, a tie line first passes through D (a pinch: infinitely many stages, for any efficiency
 /// above zero). It is found by bisection on the solvent flow with a scan of tie lines over that range (64 intervals
-/// plus both ends exactly), so a pinch strictly inside the range is located to the scan's resolution.</para>
+/// plus both ends exactly, every sampled local minimum refined by golden-section search), so a tangent pinch between
+/// samples is found as well.</para>
 /// </remarks>
 public sealed class CascadeDesign
 {
@@ -70,9 +71,13 @@ public sealed class CascadeDesign
         }
 
         double xt = RaffinateTarget(feed, zS, flow, target);
-        double fractional = CountStages(feed, zS, flow, xt, efficiencies);
+        var profile = new List<double>();
+        double fractional = CountStages(feed, zS, flow, xt, efficiencies, profile);
         int whole = Math.Max(1, (int)Math.Ceiling(fractional - 1e-9));
-        CascadeResult cascade = _solver.SolveCountercurrent(feed, solvent, StageEfficiencies(efficiencies, whole));
+
+        // The stepped profile starts the cascade solve: it is close to the answer, which matters for long cascades.
+        double[] start = [.. profile.Take(4 * whole)];
+        CascadeResult cascade = _solver.SolveCountercurrent(feed, solvent, StageEfficiencies(efficiencies, whole), start.Length == 4 * whole ? start : null);
         return new DesignResult(whole, fractional, flow, minimum.MinimumSolventFlow, cascade);
     }
 
@@ -190,7 +195,11 @@ public sealed class CascadeDesign
     }
 
     /// <summary>Fractional stages counted from the feed end with the end points fixed by the raffinate target.</summary>
-    internal double CountStages(MaterialStream feed, Ternary zS, double flow, double xt, IReadOnlyList<double> efficiencies)
+    internal double CountStages(MaterialStream feed, Ternary zS, double flow, double xt, IReadOnlyList<double> efficiencies) =>
+        CountStages(feed, zS, flow, xt, efficiencies, null);
+
+    /// <summary>As above; when <paramref name="profile"/> is given, adds the stepped stages' (x, y, raffinate flow, extract flow).</summary>
+    private double CountStages(MaterialStream feed, Ternary zS, double flow, double xt, IReadOnlyList<double> efficiencies, List<double>? profile)
     {
         if (!TryOverall(feed, zS, flow, xt, out Overall overall))
         {
@@ -198,24 +207,33 @@ public sealed class CascadeDesign
         }
 
         double y = overall.ExtractSolute;
+        double extractFlow = overall.ExtractFlow;
         double xPrevious = feed.Composition.Solute;
         for (int n = 1; n <= MaxStages; n++)
         {
             double e = efficiencies[Math.Min(n, efficiencies.Count) - 1];
-            double xStar = _envelope.FromExtract(y).Raffinate.Solute;
-            double x = xPrevious - (e * (xPrevious - xStar));
+            TieLine tie = _envelope.FromExtract(y);
+            double x = xPrevious - (e * (xPrevious - tie.Raffinate.Solute));
+            Ternary raffinate = _envelope.Raffinate(x);
+            double next = double.NaN;
+            bool stalled = (n > 1 && !(x < xPrevious)) || (x > xt && !TryNextExtract(raffinate, overall.Difference, y, out next));
+            if (profile is not null)
+            {
+                // Raffinate leaving n = extract entering n + D (the last stage: the solvent entering + D).
+                Ternary extractIn = x <= xt || stalled ? flow * zS : _envelope.FromExtract(next).Extract;
+                (double l, double v) = Envelope.Lever(overall.Difference, raffinate, -1 * extractIn);
+                profile.AddRange([x, y, x <= xt || stalled ? Math.Max(Dot(flow * zS + overall.Difference, raffinate) / Dot(raffinate, raffinate), 0) : l, extractFlow]);
+                extractFlow = Math.Max(v, 0);
+            }
+
             if (x <= xt)
             {
                 return n - 1 + ((xPrevious - xt) / (xPrevious - x));
             }
 
-            if (!(x < xPrevious))
-            {
-                break;
-            }
-
-            Ternary raffinate = _envelope.Raffinate(x);
-            if (!TryNextExtract(raffinate, overall.Difference, y, out double next))
+            // Stage 1 may leave a raffinate richer in solute (as a fraction) than an unsaturated feed; after it the
+            // raffinate must get leaner, or the steps have stalled at a pinch.
+            if (stalled)
             {
                 break;
             }
@@ -226,6 +244,8 @@ public sealed class CascadeDesign
 
         throw new InfeasibleSpecificationException($"The {xt:G6} raffinate target needs more than {MaxStages} stages at a solvent flow of {flow:G6} {FlowUnit} (the operating line pinches against a tie line): raise the solvent flow or relax the target.");
     }
+
+    private static double Dot(Ternary a, Ternary b) => (a.Solute * b.Solute) + (a.Diluent * b.Diluent) + (a.Solvent * b.Solvent);
 
     /// <summary>The raffinate solute fraction a target means at this solvent flow.</summary>
     internal double RaffinateTarget(MaterialStream feed, Ternary zS, double flow, DesignTarget target)
@@ -365,20 +385,76 @@ public sealed class CascadeDesign
             return true;
         }
 
+        // q(x) = det(R, E, D) / -det(R, E, solvent): the side of each tie line on which the difference point lies,
+        // relative to the side the solvent is on (where D lies for plenty of solvent). A pinch is a zero of q.
+        double Q(double x)
+        {
+            TieLine tie = x >= xEnd ? first : _envelope.Model.TieLineFromRaffinate(Math.Min(x, _envelope.RaffinateMax), _envelope.TemperatureKelvin);
+            double reference = -Envelope.Det(tie.Raffinate, tie.Extract, zS);
+            return reference > 0 ? Envelope.Det(tie.Raffinate, tie.Extract, overall.Difference) / reference : double.NegativeInfinity;
+        }
+
+        Span<double> q = stackalloc double[PinchScanIntervals + 1];
+        double h = (xEnd - xt) / PinchScanIntervals;
         for (int i = 0; i <= PinchScanIntervals; i++)
         {
-            double x = xt + ((xEnd - xt) * i / PinchScanIntervals);
-            TieLine tie = i == PinchScanIntervals ? first : _envelope.Model.TieLineFromRaffinate(Math.Min(x, _envelope.RaffinateMax), _envelope.TemperatureKelvin);
-            double side = Envelope.Det(tie.Raffinate, tie.Extract, overall.Difference);
-            double reference = -Envelope.Det(tie.Raffinate, tie.Extract, zS);
-            if (!(side * reference > 0))
+            q[i] = Q(i == PinchScanIntervals ? xEnd : xt + (h * i));
+            if (!(q[i] > 0))
             {
-                pinch = x;
+                pinch = xt + (h * i);
                 return false;
             }
         }
 
+        // A tangent pinch can fall between samples: refine every sampled local minimum (golden section).
+        for (int i = 1; i < PinchScanIntervals; i++)
+        {
+            if (q[i] <= q[i - 1] && q[i] <= q[i + 1])
+            {
+                double xMin = GoldenMinimum(Q, xt + (h * (i - 1)), xt + (h * (i + 1)), 1e-10 * Math.Max(xEnd, 1e-6), out double qMin);
+                if (!(qMin > 0))
+                {
+                    pinch = xMin;
+                    return false;
+                }
+            }
+        }
+
         return true;
+    }
+
+    private static double GoldenMinimum(Func<double, double> f, double a, double b, double tolerance, out double fMin)
+    {
+        const double R = 0.6180339887498949;
+        double c = b - (R * (b - a)), d = a + (R * (b - a));
+        double fc = f(c), fd = f(d);
+        for (int i = 0; i < 200 && b - a > tolerance; i++)
+        {
+            if (fc <= fd)
+            {
+                b = d;
+                d = c;
+                fd = fc;
+                c = b - (R * (b - a));
+                fc = f(c);
+            }
+            else
+            {
+                a = c;
+                c = d;
+                fc = fd;
+                d = a + (R * (b - a));
+                fd = f(d);
+            }
+
+            if (!(Math.Min(fc, fd) > 0))
+            {
+                break;
+            }
+        }
+
+        fMin = Math.Min(fc, fd);
+        return fc <= fd ? c : d;
     }
 
     private bool TryRaffinateForRecovery(MaterialStream feed, Ternary zS, double flow, double recovery, out double xt)
@@ -449,6 +525,23 @@ public sealed class CascadeDesign
             double v = yAbove * (Cells - i) / Cells;
             double g = G(v);
             if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, v, previousY, g, previousG, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
+            {
+                return true;
+            }
+
+            previousY = v;
+            previousG = g;
+        }
+
+        // Near a pinch, a stage of efficiency below 1 can be fed an extract a little richer than the one it sends on.
+        double yMax = _envelope.ExtractMax;
+        previousY = yAbove;
+        previousG = G(yAbove);
+        for (int i = 1; i <= Cells; i++)
+        {
+            double v = yAbove + ((yMax - yAbove) * i / Cells);
+            double g = G(v);
+            if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, previousY, v, previousG, g, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
             {
                 return true;
             }

@@ -1,5 +1,6 @@
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Equilibrium.Activity;
 
 namespace Tieflow.Core.Cascade;
 
@@ -39,6 +40,8 @@ public sealed class CascadeSolver
     public CascadeSolverOptions Options { get; }
 
     internal Envelope Envelope => _envelope;
+
+    private bool UseTable => Options.UseEnvelopeTable ?? Model is ActivityCoefficientModel;
 
     /// <summary>Solves one stage fed with a raffinate-side and an extract-side stream.</summary>
     /// <param name="raffinateIn">Stream entering on the raffinate side (the feed of a single stage); flow above zero.</param>
@@ -102,7 +105,14 @@ public sealed class CascadeSolver
     public CascadeResult SolveCountercurrent(MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies)
     {
         CheckInputs(feed, solvent, efficiencies);
-        return new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: true);
+        return new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: true, useTable: UseTable);
+    }
+
+    /// <summary>Counter-current solve from a starting profile (x, y, raffinate flow, extract flow per stage), or from the equilibrium split when null.</summary>
+    internal CascadeResult SolveCountercurrent(MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, double[]? start)
+    {
+        CheckInputs(feed, solvent, efficiencies);
+        return new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: true, start);
     }
 
     /// <summary>Counter-current cascade with the same efficiency on every stage.</summary>
@@ -118,7 +128,7 @@ public sealed class CascadeSolver
     public bool TrySolveCountercurrent(MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, out CascadeResult result)
     {
         CheckInputs(feed, solvent, efficiencies);
-        result = new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: false);
+        result = new CountercurrentSolver(_envelope, feed, solvent, efficiencies, Options).Solve(throwOnFailure: false, useTable: UseTable);
         return result.Status == CascadeStatus.Converged;
     }
 

@@ -15,6 +15,14 @@ public sealed record CascadeSolverOptions
     /// <summary>Largest number of root-finding steps of one stage. Default 200.</summary>
     public int MaxStageIterations { get; init; } = 200;
 
+    /// <summary>
+    /// Whether counter-current solves first build a spline table of the model's envelope (once per solver, about 160
+    /// tie lines) and use it to find a start close to the answer and for the Jacobian; the residuals always come from
+    /// the model, so answers are the model's within <see cref="Tolerance"/>. Null (the default) uses it for activity
+    /// models (NRTL, UNIQUAC), whose tie lines are iterative and costly, and not for the table and distribution models.
+    /// </summary>
+    public bool? UseEnvelopeTable { get; init; }
+
     /// <summary>The default options.</summary>
     public static CascadeSolverOptions Default { get; } = new();
 

@@ -8,7 +8,8 @@ namespace Tieflow.Core.Cascade;
 /// Counter-current cascade by Newton's method on the whole profile. Unknowns per stage: the solute fractions of
 /// the leaving raffinate (x) and extract (y), both on the envelope, and the two leaving flows scaled by the total
 /// inflow. Equations per stage: three component balances and the Murphree relation. Envelope derivatives come from
-/// forward differences of the model's tie-line functions (4 model calls per stage and step). Steps are projected
+/// forward differences of the model's tie-line functions (4 model calls per stage and step, 2 for a stage of
+/// efficiency 1, whose raffinate is the other end of its extract's tie line). Steps are projected
 /// onto the envelope's range and halved until the largest residual falls. The start is the equilibrium split of
 /// feed plus solvent on every stage. Should Newton stall, Gauss-Seidel sweeps of single-stage solves (slow but
 /// robust) bring the profile closer before Newton resumes.
@@ -30,9 +31,12 @@ internal sealed class CountercurrentSolver
     private readonly double[] _trial;
     private readonly double[] _residual;
     private readonly double[] _trialResidual;
-    private readonly double[] _jacobian;
+    private readonly double[] _step;
+    private readonly BandedLinear _jacobian;
     private Curves _curves;
     private Curves _trialCurves;
+    private IEnvelopeBranches _values;
+    private IEnvelopeBranches _slopes;
 
     public CountercurrentSolver(Envelope envelope, MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, CascadeSolverOptions options)
     {
@@ -49,21 +53,39 @@ internal sealed class CountercurrentSolver
         _trial = new double[size];
         _residual = new double[size];
         _trialResidual = new double[size];
-        _jacobian = new double[size * size];
+        _step = new double[size];
+        _jacobian = new BandedLinear(size, 7, 7);
         _curves = new Curves(_n);
         _trialCurves = new Curves(_n);
+        _values = envelope;
+        _slopes = envelope;
     }
 
     public int Iterations { get; private set; }
 
-    public CascadeResult Solve(bool throwOnFailure)
+    public CascadeResult Solve(bool throwOnFailure, double[]? start = null, bool useTable = false)
     {
-        Start();
         bool converged = false;
-        int sweepsLeft = _options.MaxIterations;
-        while (Iterations < _options.MaxIterations)
+        EnvelopeTable? table = useTable && start is null ? _envelope.Table : null;
+        if (table is not null && TableStart(table))
         {
-            if (Newton())
+            // Residuals from the model, Jacobian from the table: the start is within the table's error of the answer.
+            _values = _envelope;
+            _slopes = table;
+            EvaluateCurves(_u, _curves);
+            Residual(_u, _curves, _residual);
+            converged = Newton(_options.Tolerance, Math.Min(_options.MaxIterations, 12));
+            _slopes = _envelope;
+        }
+        else
+        {
+            Start(start);
+        }
+
+        int sweepsLeft = _options.MaxIterations;
+        while (!converged && Iterations < _options.MaxIterations)
+        {
+            if (Newton(_options.Tolerance, _options.MaxIterations))
             {
                 converged = true;
                 break;
@@ -84,15 +106,60 @@ internal sealed class CountercurrentSolver
         return Result(converged ? CascadeStatus.Converged : CascadeStatus.IterationLimit);
     }
 
-    private void Start()
+    /// <summary>Solves the cascade on the table alone, from the table's split of feed plus solvent; false when that fails.</summary>
+    private bool TableStart(EnvelopeTable table)
     {
+        Ternary mixture = _feed + _solvent;
+        if (!table.TrySplit(mixture, out double x, out double y))
+        {
+            return false;
+        }
+
+        TieLine tie = table.FromExtract(y);
+        (double l, double v) = Envelope.Lever(mixture, tie.Raffinate, tie.Extract);
+        if (!(l > 0 && v > 0))
+        {
+            return false;
+        }
+
+        for (int k = 0; k < _n; k++)
+        {
+            _u[4 * k] = x;
+            _u[(4 * k) + 1] = y;
+            _u[(4 * k) + 2] = l;
+            _u[(4 * k) + 3] = v;
+        }
+
+        _values = table;
+        _slopes = table;
+        EvaluateCurves(_u, _curves);
+        Residual(_u, _curves, _residual);
+        bool ok = Newton(1e-10, 50);
+        _values = _envelope;
+        _slopes = _envelope;
+        return ok;
+    }
+
+    private void Start(double[]? start)
+    {
+        if (start is not null)
+        {
+            for (int i = 0; i < start.Length; i++)
+            {
+                _u[i] = i % 4 < 2 ? start[i] : start[i] / _scale;
+            }
+
+            Project(_u);
+            EvaluateCurves(_u, _curves);
+            Residual(_u, _curves, _residual);
+            return;
+        }
+
         Ternary mixture = _feed + _solvent;
         PhaseSplit split = _envelope.Split(mixture.Normalized());
         if (!split.IsTwoPhase)
         {
-            System.Diagnostics.Debug.Assert(mixture.Sum > 0, "scaled inflow is positive");
-            Ternary z = (1 / mixture.Sum) * mixture;
-            throw new CascadeException($"The feed and the solvent together form one liquid phase ({_envelope.Model.System.Solute.Id} {z.Solute:G4}, {_envelope.Model.System.Diluent.Id} {z.Diluent:G4}, {_envelope.Model.System.Solvent.Id} {z.Solvent:G4}), so no stage can split them. Raise the solvent flow.");
+            throw StageSolver.OnePhase(_envelope, "The feed and the solvent together", _feed, _solvent);
         }
 
         (double l, double v) = Envelope.Lever(mixture, split.Raffinate, split.Extract);
@@ -108,15 +175,15 @@ internal sealed class CountercurrentSolver
         Residual(_u, _curves, _residual);
     }
 
-    /// <summary>Newton steps until converged (true) or stalled (false).</summary>
-    private bool Newton()
+    /// <summary>Newton steps until converged (true) or stalled or out of steps (false).</summary>
+    private bool Newton(double tolerance, int maxSteps)
     {
         int size = 4 * _n;
         double norm = MaxAbs(_residual);
-        var step = new double[size];
-        while (Iterations < _options.MaxIterations)
+        double[] step = _step;
+        for (int taken = 0; taken < maxSteps && Iterations < _options.MaxIterations; taken++)
         {
-            if (norm <= _options.Tolerance)
+            if (norm <= tolerance)
             {
                 return true;
             }
@@ -129,7 +196,7 @@ internal sealed class CountercurrentSolver
                 step[i] = -_residual[i];
             }
 
-            if (!DenseLinear.Solve(_jacobian, step, size))
+            if (!_jacobian.Solve(step))
             {
                 return false;
             }
@@ -147,7 +214,7 @@ internal sealed class CountercurrentSolver
                 EvaluateCurves(_trial, _trialCurves);
                 Residual(_trial, _trialCurves, _trialResidual);
                 double trialNorm = MaxAbs(_trialResidual);
-                if (trialNorm < (1 - (1e-4 * alpha)) * norm || trialNorm <= _options.Tolerance)
+                if (trialNorm < (1 - (1e-4 * alpha)) * norm || trialNorm <= tolerance)
                 {
                     accepted = true;
                     norm = trialNorm;
@@ -167,7 +234,7 @@ internal sealed class CountercurrentSolver
             (_curves, _trialCurves) = (_trialCurves, _curves);
         }
 
-        return norm <= _options.Tolerance;
+        return norm <= tolerance;
     }
 
     /// <summary>One Gauss-Seidel sweep of single-stage solves from the feed end.</summary>
@@ -206,8 +273,9 @@ internal sealed class CountercurrentSolver
     {
         for (int k = 0; k < _n; k++)
         {
-            c.Raffinate[k] = _envelope.Raffinate(u[4 * k]);
-            TieLine tie = _envelope.FromExtract(u[(4 * k) + 1]);
+            // An equilibrium stage's raffinate is the other end of its extract's tie line: one model call, not two.
+            TieLine tie = _values.FromExtract(u[(4 * k) + 1]);
+            c.Raffinate[k] = _efficiency[k] == 1 ? tie.Raffinate : _values.Raffinate(u[4 * k]);
             c.Extract[k] = tie.Extract;
             c.EquilibriumRaffinate[k] = tie.Raffinate.Solute;
         }
@@ -215,17 +283,29 @@ internal sealed class CountercurrentSolver
 
     private void EvaluateDerivatives(double[] u, Curves c)
     {
+        bool sameSource = ReferenceEquals(_slopes, _values);
         for (int k = 0; k < _n; k++)
         {
+            bool conjugate = _efficiency[k] == 1;
             double x = u[4 * k];
-            double hx = x + DerivativeStep <= _envelope.RaffinateMax ? DerivativeStep : -DerivativeStep;
-            c.RaffinateSlope[k] = (1 / hx) * (_envelope.Raffinate(x + hx) - c.Raffinate[k]);
+            if (conjugate)
+            {
+                c.RaffinateSlope[k] = default;
+            }
+            else
+            {
+                double hx = x + DerivativeStep <= _slopes.RaffinateMax ? DerivativeStep : -DerivativeStep;
+                Ternary r0 = sameSource ? c.Raffinate[k] : _slopes.Raffinate(x);
+                c.RaffinateSlope[k] = (1 / hx) * (_slopes.Raffinate(x + hx) - r0);
+            }
 
             double y = u[(4 * k) + 1];
-            double hy = y + DerivativeStep <= _envelope.ExtractMax ? DerivativeStep : -DerivativeStep;
-            TieLine tie = _envelope.FromExtract(y + hy);
-            c.ExtractSlope[k] = (1 / hy) * (tie.Extract - c.Extract[k]);
-            c.EquilibriumRaffinateSlope[k] = (tie.Raffinate.Solute - c.EquilibriumRaffinate[k]) / hy;
+            double hy = y + DerivativeStep <= _slopes.ExtractMax ? DerivativeStep : -DerivativeStep;
+            TieLine t0 = sameSource ? new TieLine(conjugate ? c.Raffinate[k] : new Ternary(c.EquilibriumRaffinate[k], 0, 0), c.Extract[k]) : _slopes.FromExtract(y);
+            TieLine tie = _slopes.FromExtract(y + hy);
+            c.ExtractSlope[k] = (1 / hy) * (tie.Extract - t0.Extract);
+            c.EquilibriumRaffinateSlope[k] = (tie.Raffinate.Solute - t0.Raffinate.Solute) / hy;
+            c.ConjugateSlope[k] = conjugate ? (1 / hy) * (tie.Raffinate - t0.Raffinate) : default;
         }
     }
 
@@ -244,41 +324,41 @@ internal sealed class CountercurrentSolver
         }
     }
 
-    private void Jacobian(double[] u, Curves c, double[] j)
+    private void Jacobian(double[] u, Curves c, BandedLinear j)
     {
-        int size = 4 * _n;
-        Array.Clear(j);
+        j.Clear();
         for (int k = 0; k < _n; k++)
         {
             int col = 4 * k;
             for (int comp = 0; comp < 3; comp++)
             {
-                int row = ((4 * k) + comp) * size;
-                j[row + col] = -u[col + 2] * c.RaffinateSlope[k][comp];
-                j[row + col + 1] = -u[col + 3] * c.ExtractSlope[k][comp];
-                j[row + col + 2] = -c.Raffinate[k][comp];
-                j[row + col + 3] = -c.Extract[k][comp];
+                int row = (4 * k) + comp;
+                j.Set(row, col, -u[col + 2] * c.RaffinateSlope[k][comp]);
+                j.Set(row, col + 1, (-u[col + 3] * c.ExtractSlope[k][comp]) - (u[col + 2] * c.ConjugateSlope[k][comp]));
+                j.Set(row, col + 2, -c.Raffinate[k][comp]);
+                j.Set(row, col + 3, -c.Extract[k][comp]);
                 if (k > 0)
                 {
                     int prev = col - 4;
-                    j[row + prev] = u[prev + 2] * c.RaffinateSlope[k - 1][comp];
-                    j[row + prev + 2] = c.Raffinate[k - 1][comp];
+                    j.Set(row, prev, u[prev + 2] * c.RaffinateSlope[k - 1][comp]);
+                    j.Set(row, prev + 1, u[prev + 2] * c.ConjugateSlope[k - 1][comp]);
+                    j.Set(row, prev + 2, c.Raffinate[k - 1][comp]);
                 }
 
                 if (k < _n - 1)
                 {
                     int next = col + 4;
-                    j[row + next + 1] = u[next + 3] * c.ExtractSlope[k + 1][comp];
-                    j[row + next + 3] = c.Extract[k + 1][comp];
+                    j.Set(row, next + 1, u[next + 3] * c.ExtractSlope[k + 1][comp]);
+                    j.Set(row, next + 3, c.Extract[k + 1][comp]);
                 }
             }
 
-            int murphree = ((4 * k) + 3) * size;
-            j[murphree + col] = 1;
-            j[murphree + col + 1] = -_efficiency[k] * c.EquilibriumRaffinateSlope[k];
+            int murphree = (4 * k) + 3;
+            j.Set(murphree, col, 1);
+            j.Set(murphree, col + 1, -_efficiency[k] * c.EquilibriumRaffinateSlope[k]);
             if (k > 0)
             {
-                j[murphree + col - 4] = -1 + _efficiency[k];
+                j.Set(murphree, col - 4, -1 + _efficiency[k]);
             }
         }
     }
@@ -324,6 +404,9 @@ internal sealed class CountercurrentSolver
         public Ternary[] Raffinate { get; } = new Ternary[n];
 
         public Ternary[] RaffinateSlope { get; } = new Ternary[n];
+
+        /// <summary>Slope of an equilibrium stage's raffinate (the conjugate end of its extract's tie line) with y.</summary>
+        public Ternary[] ConjugateSlope { get; } = new Ternary[n];
 
         public Ternary[] Extract { get; } = new Ternary[n];
 

@@ -4,8 +4,10 @@ using Tieflow.Core.Equilibrium;
 namespace Tieflow.Core.Cascade;
 
 /// <summary>The two branches of a model's phase envelope at one temperature, as the cascade solvers use them.</summary>
-internal sealed class Envelope
+internal sealed class Envelope : IEnvelopeBranches
 {
+    private readonly Lazy<EnvelopeTable?> _table;
+
     public Envelope(IPhaseEquilibrium model, double temperatureKelvin)
     {
         Model = model;
@@ -15,7 +17,11 @@ internal sealed class Envelope
         // The distribution model accepts fractions up to 1 exclusive; keep clear of the singular end.
         RaffinateMax = Math.Min(limits.Raffinate, 1 - 1e-9);
         ExtractMax = Math.Min(limits.Extract, 1 - 1e-9);
+        _table = new Lazy<EnvelopeTable?>(() => EnvelopeTable.TryBuild(this));
     }
+
+    /// <summary>The spline stand-in of this envelope, built at first use; null when it cannot be built.</summary>
+    public EnvelopeTable? Table => _table.Value;
 
     public IPhaseEquilibrium Model { get; }
 

@@ -25,7 +25,7 @@ internal static class StageSolver
         PhaseSplit split = Split(envelope, stage, z);
         if (!split.IsTwoPhase)
         {
-            throw OnePhase(stage, z, envelope.Model.System);
+            throw OnePhase(envelope, $"Stage {stage}: the mixture of the entering streams", raffinateIn.ComponentFlows, extractIn.ComponentFlows);
         }
 
         double xIn = raffinateIn.Flow > 0 ? raffinateIn.Composition.Solute : split.Raffinate.Solute;
@@ -63,8 +63,46 @@ internal static class StageSolver
         return new StageResult(stage, new MaterialStream(Math.Max(l, 0), r), new MaterialStream(Math.Max(v, 0), e), efficiency, xStar);
     }
 
-    internal static CascadeException OnePhase(int stage, Ternary z, TernarySystem system) =>
-        new($"Stage {stage}: the mixture of the entering streams ({system.Solute.Id} {z.Solute:G4}, {system.Diluent.Id} {z.Diluent:G4}, {system.Solvent.Id} {z.Solvent:G4}) is one liquid phase, so the stage cannot separate it. Raise the solvent flow (or lower the feed's solute content) so that the mixture splits into two phases.");
+    internal static CascadeException OnePhase(Envelope envelope, string where, Ternary raffinateSide, Ternary extractSide)
+    {
+        Ternary z = (raffinateSide + extractSide).Normalized();
+        TernarySystem system = envelope.Model.System;
+        return new CascadeException($"{where} ({system.Solute.Id} {z.Solute:G4}, {system.Diluent.Id} {z.Diluent:G4}, {system.Solvent.Id} {z.Solvent:G4}) is one liquid phase, so it cannot be separated. {OnePhaseAdvice(envelope, raffinateSide, extractSide)}");
+    }
+
+    /// <summary>Which way the solvent-to-feed ratio must move for the mixture to split (only on the error path).</summary>
+    internal static string OnePhaseAdvice(Envelope envelope, Ternary raffinateSide, Ternary extractSide)
+    {
+        foreach (double factor in (ReadOnlySpan<double>)[2, 5, 20])
+        {
+            if (TwoPhase(envelope, raffinateSide + (factor * extractSide)))
+            {
+                return "Raise the solvent flow (the solvent-to-feed ratio) so that the mixture splits into two phases.";
+            }
+        }
+
+        foreach (double factor in (ReadOnlySpan<double>)[0.5, 0.2, 0.05])
+        {
+            if (TwoPhase(envelope, raffinateSide + (factor * extractSide)))
+            {
+                return "Lower the solvent flow (the solvent-to-feed ratio): with this much solvent the feed dissolves in it.";
+            }
+        }
+
+        return "No solvent-to-feed ratio splits these streams at this temperature: check the solvent, the feed's solute content and the temperature.";
+    }
+
+    private static bool TwoPhase(Envelope envelope, Ternary mixture)
+    {
+        try
+        {
+            return mixture.Sum > 0 && envelope.Split(mixture.Normalized()).IsTwoPhase;
+        }
+        catch (EquilibriumException)
+        {
+            return false;
+        }
+    }
 
     private static PhaseSplit Split(Envelope envelope, int stage, Ternary z)
     {

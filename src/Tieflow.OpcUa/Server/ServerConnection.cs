@@ -113,6 +113,13 @@ internal sealed class ServerConnection
         }
     }
 
+    /// <summary>Sends ERR to a connection the server will not serve, waits for it to be written, and closes.</summary>
+    public async Task RefuseAsync(StatusCode status, string reason)
+    {
+        SendErrorAndClose(status, reason);
+        await WriteLoopAsync().ConfigureAwait(false);
+    }
+
     /// <summary>Closes the socket (queued messages are dropped unless the writer already sent them).</summary>
     public void Close()
     {
@@ -142,8 +149,9 @@ internal sealed class ServerConnection
         var body = EncodeBody(response);
         var maxBody = _sendChunkSize - SymmetricOverhead;
         var chunkCount = (body.Length + maxBody - 1) / maxBody;
-        if ((_peerMaxMessageSize != 0 && body.Length > _peerMaxMessageSize) ||
-            (_peerMaxChunkCount != 0 && chunkCount > _peerMaxChunkCount) || chunkCount > _limits.MaxChunkCount * 4)
+        // 0 from the peer means "no limit": our own limit applies then (digest §5, MaxMessageSize 0).
+        var maxMessage = _peerMaxMessageSize == 0 ? (uint)_limits.MaxMessageSize : Math.Min(_peerMaxMessageSize, (uint)_limits.MaxMessageSize);
+        if (body.Length > maxMessage || (_peerMaxChunkCount != 0 && chunkCount > _peerMaxChunkCount))
         {
             var fault = new ServiceFault
             {

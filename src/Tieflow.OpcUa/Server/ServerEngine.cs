@@ -67,6 +67,17 @@ internal sealed partial class ServerEngine : IDisposable
         }
     }
 
+    public int ConnectionCount
+    {
+        get
+        {
+            lock (_sync)
+            {
+                return _connections.Count;
+            }
+        }
+    }
+
     public int ParkedPublishCount
     {
         get

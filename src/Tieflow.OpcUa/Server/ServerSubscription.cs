@@ -72,6 +72,11 @@ internal sealed class ServerSubscription : IDisposable
     {
         foreach (var item in Items.Values)
         {
+            if (item.Node is ServerVariable { ValueSource: not null } computed && item.AttributeId == NodeAttributes.Value)
+            {
+                // Computed values (ServerStatus.CurrentTime, State...) have no writer that notifies: sample them here.
+                item.OnValueChanged(computed.CurrentValue, now);
+            }
             item.FlushPending(now);
         }
         if (PublishingEnabled && HasNotifications)

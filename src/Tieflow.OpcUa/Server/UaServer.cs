@@ -269,6 +269,12 @@ public sealed class UaServer : IAsyncDisposable
             }
             socket.NoDelay = true;
             var connection = new ServerConnection(socket, _engine, _limits);
+            if (_engine.ConnectionCount >= _options.MaxConnections)
+            {
+                // Refused politely: the ERR goes out before the socket closes.
+                _ = Task.Run(() => connection.RefuseAsync(StatusCodes.BadTcpServerTooBusy, $"the server holds its limit of {_options.MaxConnections} connections"));
+                continue;
+            }
             _engine.OnConnectionOpened(connection);
             var task = Task.Run(() => connection.RunAsync(_stopping.Token));
             lock (_connectionTasks)
@@ -320,6 +326,10 @@ public sealed class UaServer : IAsyncDisposable
         if (options.BufferSize < 8192)
         {
             throw new ArgumentException($"UaServerOptions.BufferSize is {options.BufferSize}; expected at least 8192", nameof(options));
+        }
+        if (options.MaxConnections < 1 || options.MaxSessions < 1)
+        {
+            throw new ArgumentException("UaServerOptions.MaxConnections and MaxSessions must be at least 1", nameof(options));
         }
         if (options.MaxMessageSize < options.BufferSize || options.MaxChunkCount < 1)
         {

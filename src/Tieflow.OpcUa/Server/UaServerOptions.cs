@@ -41,6 +41,9 @@ public sealed class UaServerOptions
     /// <summary>Most concurrent sessions (default 20).</summary>
     public int MaxSessions { get; init; } = 20;
 
+    /// <summary>Most concurrent TCP connections (default 100); more are refused with ERR Bad_TcpServerTooBusy.</summary>
+    public int MaxConnections { get; init; } = 100;
+
     /// <summary>Largest chunk the server receives and sends, in bytes (default 65536, at least 8192).</summary>
     public int BufferSize { get; init; } = 65536;
 

@@ -11,6 +11,7 @@ internal static class CalcCommands
         calc.Subcommands.Add(CaseCommand(context, "split", "Mixes the inlets and splits the mixture at equilibrium.", SplitHandler.Run));
         calc.Subcommands.Add(CaseCommand(context, "cascade", "Solves a cross-current or counter-current cascade with a stage efficiency per stage.", CascadeHandler.Run));
         calc.Subcommands.Add(CaseCommand(context, "design", "Finds the stages, the solvent flow or the minimum solvent flow for a target.", DesignHandler.Run));
+        calc.Subcommands.Add(CaseCommand(context, "reconcile", "Reconciles measurements of a process network and tests for gross errors.", ReconcileCommand.Run));
         return calc;
     }
 

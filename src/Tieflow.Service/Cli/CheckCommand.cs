@@ -63,11 +63,12 @@ internal static class CheckCommand
                 "split case" => v => CaseReader.ReadSplit(v),
                 "cascade case" => v => CaseReader.ReadCascade(v),
                 "design case" => v => CaseReader.ReadDesign(v),
+                "reconcile case" => v => ReconcileCaseReader.Read(v),
                 _ => null,
             };
             if (read is null)
             {
-                problems.Add(path, "$", "cannot tell what kind of file this is; expected a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\")");
+                problems.Add(path, "$", "cannot tell what kind of file this is; expected a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\", or with \"nodes\" for a reconcile case)");
             }
             else
             {
@@ -104,6 +105,11 @@ internal static class CheckCommand
         if (Has("inlets"))
         {
             return "split case";
+        }
+
+        if (Has("nodes"))
+        {
+            return "reconcile case";
         }
 
         return "unknown";

@@ -1,5 +1,6 @@
 using Tieflow.Core.Cascade;
 using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Reconciliation;
 using Tieflow.Service.Input;
 
 namespace Tieflow.Service.Cli;
@@ -42,5 +43,5 @@ internal static class CommandRunner
     }
 
     /// <summary>Failures of the calculation itself, as opposed to bad input or I/O.</summary>
-    private static bool IsComputationFailure(Exception e) => e is EquilibriumException or CascadeException or InfeasibleSpecificationException or ArithmeticException;
+    private static bool IsComputationFailure(Exception e) => e is EquilibriumException or CascadeException or InfeasibleSpecificationException or ReconciliationException or ArithmeticException;
 }

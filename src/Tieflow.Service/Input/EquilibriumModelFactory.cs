@@ -14,7 +14,7 @@ internal static class EquilibriumModelFactory
     {
         TieLineSpec t => new TieLineTableModel(system, t.TemperatureKelvin, t.TieLines),
         NrtlSpec n => new NrtlModel(system, n.Pairs, n.ValidTemperatures),
-        UniquacSpec u => CreateUniquac(system, u),
+        UniquacSpec u => new UniquacModel(system, u.Structure, u.Pairs, u.ValidTemperatures),
         DistributionSpec d => new DistributionModel(system, d.TemperatureKelvin, d.Isotherm),
         _ => throw new ArgumentOutOfRangeException(nameof(spec), spec, "Unknown equilibrium data."),
     };
@@ -22,7 +22,4 @@ internal static class EquilibriumModelFactory
     /// <summary>Every problem of a tie-line table (crossing, inverted, out of order), with the index of the line.</summary>
     public static IEnumerable<(int Index, string Message)> FindTieLineProblems(IReadOnlyList<TieLine> lines) =>
         TieLineTableModel.FindProblems(lines).Select(p => (p.Index, p.Message));
-
-    private static IPhaseEquilibrium CreateUniquac(TernarySystem system, UniquacSpec spec) =>
-        throw new ArgumentException($"UNIQUAC is not available yet in this build (system with {system.Solute.Id}, {spec.Pairs.Count} pairs).");
 }

@@ -142,4 +142,59 @@ public sealed class CascadePropertyTests
         var ex = Assert.Throws<CascadeException>(() => new CascadeSolver(model, 293.15).SolveStage(new MaterialStream(100, new Ternary(0.3, 0.7, 0)), new MaterialStream(300, new Ternary(0, 0, 1)), 1e-7));
         Assert.Contains("raise the stage efficiency", ex.Message, StringComparison.Ordinal);
     }
+
+    [FsCheck.Xunit.Property(MaxTest = 40, Replay = "(139,149)")]
+    public Property SolveCountercurrent_Nrtl_ClosesBalancesAndHoldsEfficiencies()
+    {
+        // Ethyl acetate - water - ethanol NRTL (ReferenceNrtl) at 343 K, mole basis: feeds of 1 to 12% ethanol, solvent
+        // 0.3 to 1.2 times the feed (much more dissolves the water-rich feed).
+        var cases =
+            from solute in Gen.Choose(1, 12)
+            from ratio in Gen.Choose(3, 12)
+            from stages in Gen.Choose(1, 8)
+            from effs in Gen.ArrayOf(Gen.Choose(30, 100), stages)
+            select (solute / 100.0, ratio / 10.0, effs.Select(e => e / 100.0).ToArray());
+        return Prop.ForAll(cases.ToArbitrary(), c =>
+        {
+            (double solute, double ratio, double[] effs) = c;
+            var feed = new MaterialStream(100, new Ternary(solute, 1 - solute, 0));
+            var solvent = new MaterialStream(100 * ratio, new Ternary(0, 0, 1));
+            CascadeResult r = new CascadeSolver(Nrtl, 343).SolveCountercurrent(feed, solvent, effs);
+            double worstMurphree = 0;
+            for (int k = 0; k < r.Stages.Count; k++)
+            {
+                double xIn = k == 0 ? solute : r.Stages[k - 1].Raffinate.Composition.Solute;
+                double expected = xIn - (effs[k] * (xIn - r.Stages[k].EquilibriumRaffinateSoluteFraction));
+                worstMurphree = Math.Max(worstMurphree, Math.Abs(r.Stages[k].Raffinate.Composition.Solute - expected));
+            }
+
+            double imbalance = WorstStageImbalance(r, feed, solvent);
+            return (imbalance <= 1e-9 && worstMurphree <= 1e-9 && r.Status == CascadeStatus.Converged).Label($"imbalance {imbalance:G3}, Murphree {worstMurphree:G3}");
+        });
+    }
+
+    [FsCheck.Xunit.Property(MaxTest = 25, Replay = "(151,157)")]
+    public Property SolveCountercurrent_NrtlEfficiencyOne_GivesEquilibriumSplits()
+    {
+        var cases = from solute in Gen.Choose(1, 12) from ratio in Gen.Choose(3, 12) from stages in Gen.Choose(1, 8) select (solute / 100.0, ratio / 10.0, stages);
+        return Prop.ForAll(cases.ToArbitrary(), c =>
+        {
+            (double solute, double ratio, int stages) = c;
+            var feed = new MaterialStream(100, new Ternary(solute, 1 - solute, 0));
+            var solvent = new MaterialStream(100 * ratio, new Ternary(0, 0, 1));
+            CascadeResult r = new CascadeSolver(Nrtl, 343).SolveCountercurrent(feed, solvent, stages, 1.0);
+            double worst = 0;
+            for (int k = 0; k < stages; k++)
+            {
+                MaterialStream raffinateIn = k == 0 ? feed : r.Stages[k - 1].Raffinate;
+                MaterialStream extractIn = k == stages - 1 ? solvent : r.Stages[k + 1].Extract;
+                PhaseSplit split = Nrtl.Split(MaterialStream.Mix([raffinateIn, extractIn]).Composition, 343);
+                worst = Math.Max(worst, Math.Max(Ternary.MaxDifference(split.Raffinate, r.Stages[k].Raffinate.Composition), Ternary.MaxDifference(split.Extract, r.Stages[k].Extract.Composition)));
+            }
+
+            return (worst <= 1e-8).Label($"largest difference from the equilibrium split {worst:G3}");
+        });
+    }
+
+    private static readonly IPhaseEquilibrium Nrtl = ReferenceNrtl.Model();
 }

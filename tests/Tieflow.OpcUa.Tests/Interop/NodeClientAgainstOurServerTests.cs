@@ -6,6 +6,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// node-opcua's client (probe.mjs, an independent implementation) against our server over loopback: browse, read,
 /// translate, subscribe and receive changing values, and multi-chunk responses with an 8192-byte buffer.
 /// </summary>
+[Collection(NodePeerCollection.Name)]
 public sealed class NodeClientAgainstOurServerTests(OurServerForProbe fixture) : IClassFixture<OurServerForProbe>
 {
     [Fact]

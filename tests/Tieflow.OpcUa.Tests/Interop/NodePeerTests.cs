@@ -1,6 +1,7 @@
 namespace Tieflow.OpcUa.Tests.Interop;
 
 /// <summary>The node-opcua peer itself: scripts start, answer commands and serve the documented address space.</summary>
+[Collection(NodePeerCollection.Name)]
 public sealed class NodePeerTests(PlantPeerFixture fixture) : IClassFixture<PlantPeerFixture>
 {
     [Fact]

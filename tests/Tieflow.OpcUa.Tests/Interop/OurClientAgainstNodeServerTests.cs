@@ -9,6 +9,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// continuation points, translate, read, subscriptions with deadbands and their per-item errors, status codes and
 /// source timestamps arriving unchanged, and multi-chunk responses with an 8192-byte buffer.
 /// </summary>
+[Collection(NodePeerCollection.Name)]
 public sealed class OurClientAgainstNodeServerTests(PlantPeerFixture fixture) : IClassFixture<PlantPeerFixture>
 {
     private const string Ns = "urn:example:plant-sim";

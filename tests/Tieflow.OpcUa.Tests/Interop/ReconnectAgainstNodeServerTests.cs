@@ -1,6 +1,7 @@
 using System.Diagnostics;
 using Tieflow.OpcUa.Client;
 using Tieflow.OpcUa.Encoding;
+using Xunit.Abstractions;
 
 namespace Tieflow.OpcUa.Tests.Interop;
 
@@ -10,7 +11,8 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// notifications within 10 s of the server being back; after the restart (all sessions lost) it reports the gap.
 /// Each test runs its own peer.
 /// </summary>
-public sealed class ReconnectAgainstNodeServerTests
+[Collection(NodePeerCollection.Name)]
+public sealed class ReconnectAgainstNodeServerTests(ITestOutputHelper output)
 {
     private const string Ns = "urn:example:plant-sim";
     private static readonly TimeSpan Resume = TimeSpan.FromSeconds(10);
@@ -23,14 +25,19 @@ public sealed class ReconnectAgainstNodeServerTests
         await using var subscription = await client.SubscribeAsync(Settings, [Ramp]);
         await NextChangeAsync(subscription, Resume, _ => true);
 
+        var t = Stopwatch.StartNew();
         await peer.StopAsync();
+        output.WriteLine($"stopped after {t.Elapsed}");
         await peer.RestartAsync();
+        output.WriteLine($"ready after {t.Elapsed}");
         var back = Stopwatch.StartNew();
 
         // The restarted server's ramp starts again near zero: a value from the new process proves resubscription.
         var gap = await NextAsync<UaDataGap>(subscription, Resume);
+        output.WriteLine($"gap after {back.Elapsed}: {gap.Reason}");
         var resumed = await NextChangeAsync(subscription, Resume - back.Elapsed, _ => true);
         back.Stop();
+        output.WriteLine($"resumed after {back.Elapsed}");
 
         Assert.True(back.Elapsed < Resume, $"notifications resumed {back.Elapsed} after the server was back");
         Assert.True(gap.To >= gap.From, $"gap {gap.From:O} - {gap.To:O}");

@@ -481,6 +481,47 @@ public sealed class UaServerTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task Connect_BeyondMaxConnections_IsRefusedWithServerTooBusy()
+    {
+        await using var server = new UaServer(new UaServerOptions { MaxConnections = 2 });
+        await server.StartAsync();
+        using var a = new RawUaClient();
+        using var b = new RawUaClient();
+        using var c = new RawUaClient();
+        await a.ConnectAsync(server.Port);
+        await b.ConnectAsync(server.Port);
+        await a.HelloAsync(server.EndpointUrl);
+        await b.HelloAsync(server.EndpointUrl);
+
+        await c.ConnectAsync(server.Port);
+        var (type, _, body) = await c.ReadMessageAsync();
+
+        Assert.Equal("ERR", type);
+        Assert.Equal(StatusCodes.BadTcpServerTooBusy, RawUaClient.ErrorStatus(body));
+    }
+
+    [Fact]
+    public async Task Publish_MonitoringServerCurrentTime_ReportsTheComputedValueAsTimePasses()
+    {
+        using var client = await SessionAsync();
+        var subscription = await client.CallAsync<CreateSubscriptionResponse>(new CreateSubscriptionRequest { RequestedPublishingInterval = 100, RequestedMaxKeepAliveCount = 3, RequestedLifetimeCount = 30, PublishingEnabled = true });
+        var created = await client.CallAsync<CreateMonitoredItemsResponse>(new CreateMonitoredItemsRequest
+        {
+            SubscriptionId = subscription.SubscriptionId,
+            TimestampsToReturn = TimestampsToReturn.Both,
+            ItemsToCreate = [Monitor(new NodeId(2258u), 1, null)],
+        });
+        Assert.Equal(StatusCodes.Good, Assert.Single(created.Results).StatusCode);
+
+        var first = await PublishAfterAsync(client, TimeSpan.FromMilliseconds(100));
+        _time.Advance(TimeSpan.FromSeconds(1));
+        var second = await PublishAfterAsync(client, TimeSpan.FromMilliseconds(100));
+
+        DateTime Time(PublishResponse r) => (DateTime)Assert.IsType<DataChangeNotification>(Assert.Single(r.NotificationMessage.NotificationData).Body).MonitoredItems[^1].Value.Value.Value!;
+        Assert.True(Time(second) > Time(first), $"{Time(first):O} then {Time(second):O}");
+    }
+
+    [Fact]
     public void UpdateValue_WrongType_NamesTheVariableAndTypes()
     {
         var e = Assert.Throws<ArgumentException>(() => _server.UpdateValue(_flow, new Variant(BuiltInType.String, "x"), StatusCodes.Good, Start));

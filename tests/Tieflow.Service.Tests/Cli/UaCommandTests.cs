@@ -111,6 +111,34 @@ public sealed class UaCommandTests : IAsyncLifetime
         Assert.True(values[^1] > values[0], string.Join(", ", values));
     }
 
+    [Fact]
+    public async Task Watch_ServerRestartedDuringTheWatch_ReconnectsByItselfAndReportsTheGap()
+    {
+        var port = _server.Port;
+        var restart = Task.Run(async () =>
+        {
+            await Task.Delay(1500);
+            await _server.DisposeAsync();
+            var second = new UaServer(new UaServerOptions { Port = port, ResourcePath = "/plant" });
+            var train = second.AddFolder(UaServer.ObjectsFolder, "Train");
+            second.AddVariable(train, "FeedFlow", new Variant(BuiltInType.Double, 5000.0));
+            await second.StartAsync();
+            _server = second;
+        });
+
+        CliRun run = await Task.Run(() => CliRun.Of("ua", "watch", "--endpoint", $"opc.tcp://127.0.0.1:{port}/plant", "--node", "ns=2;s=Train.FeedFlow",
+            "--sampling", "00:00:00.200", "--for", "00:00:07", "--json"));
+        await restart;
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        var values = run.Output.Split('\n', StringSplitOptions.RemoveEmptyEntries)
+            .Select(l => JsonDocument.Parse(l).RootElement.GetProperty("value").GetDouble()).ToList();
+        Assert.Contains(101.5, values);
+        Assert.Contains(5000.0, values);
+        Assert.Contains("gap:", run.Error, StringComparison.Ordinal);
+        Assert.Contains("Reconnecting", run.Error, StringComparison.Ordinal);
+    }
+
     [Theory]
     [InlineData("read", "--node", "ns=2;x=Train")]
     [InlineData("read", "--node", "ns=abc;s=Train")]

@@ -19,9 +19,13 @@ public sealed class GoldenOutputTests
         { "cascade", "x300-countercurrent.case.json" },
         { "cascade", "x300-crosscurrent.case.json" },
         { "cascade", "h10-leach-countercurrent.case.json" },
+        { "cascade", "a700-uniquac-countercurrent.case.json" },
+        { "cascade", "dilute-kremser-countercurrent.case.json" },
         { "design", "x300-design-stages.case.json" },
         { "design", "x300-design-solvent.case.json" },
         { "design", "x300-design-minimum-solvent.case.json" },
+        { "reconcile", "hx-bypass-reconcile.case.json" },
+        { "reconcile", "x350-two-stage-reconcile.case.json" },
     };
 
     [Theory]

@@ -16,11 +16,15 @@ namespace Tieflow.Core.Equilibrium.Activity;
 /// <para>
 /// Split from a cold start: a tangent-plane-distance stability test (Michelsen 1982) from trial phases rich in each
 /// component finds whether the mixture splits and gives a trial phase; successive substitution of the distribution
-/// ratios with the Rachford-Rice equation for the phase fraction follows, then Newton's method on the mole numbers of
-/// one phase (Jacobian of the activity coefficients by finite differences) polishes to isoactivity within
-/// <see cref="Tolerance"/>. A converged answer whose phases coincide (the trivial solution) is never returned as two
-/// phases. A warm start skips the stability test and starts from the given phases, falling back to a cold start if
-/// that does not give a proper split. The raffinate is the diluent-richer phase.
+/// ratios with the Rachford-Rice equation for the phase fraction follows (with dominant-eigenvalue acceleration every
+/// fifth step), then Newton's method on the mole numbers of one phase (analytic Jacobian where the model has one,
+/// finite differences otherwise; step halving on the residual) polishes to isoactivity within <see cref="Tolerance"/>.
+/// Near the plait point, where substitution crawls and Newton may not converge from its start, the tie lines traced
+/// for the temperature locate the tie line through the mixture. When those tie lines are already traced and
+/// <see cref="ColdStartFromTieLines"/> is set, a cold start begins with Newton from the two traced tie lines that
+/// bracket the mixture instead (same answer, far less work). A converged answer whose phases coincide (the trivial
+/// solution) is never returned as two phases. A warm start skips the stability test and starts from the given phases,
+/// falling back to a cold start if that does not give a proper split. The raffinate is the diluent-richer phase.
 /// </para>
 /// <para>
 /// Tie lines with a given solute fraction at one end are found by Newton's method on isoactivity with that fraction
@@ -33,6 +37,11 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     private const int N = 3;
     private const int StateCapacity = 32;
     private const double TrivialDistance = 1e-6;
+
+    // Tuned on the reference system over its two-phase region: hand over to Newton once substitution changes ln K by
+    // less than this; leave a stability trial once it is proven unstable and changes by less than this.
+    private const double NewtonSwitch = 1e-3;
+    private const double TrialExit = 1e-2;
 
     private volatile TieLineFamily? _family;
 
@@ -60,6 +69,13 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>Iteration limit of each iterative stage (stability test trial, substitution, Newton). Default 200.</summary>
     public int MaxIterations { get; init; } = 200;
+
+    /// <summary>
+    /// Whether a split without a warm start may start from the tie lines already traced for that temperature (by a
+    /// tie-line or solute-limit call, or by an earlier split near the plait point) instead of running the stability
+    /// test first. The answer is the same to the tolerance; only the work differs. Default true.
+    /// </summary>
+    public bool ColdStartFromTieLines { get; init; } = true;
 
     /// <summary>Short model name used in messages (for example "NRTL").</summary>
     private protected abstract string ModelName { get; }
@@ -110,7 +126,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// Tangent-plane-distance stability test of a mixture (fractions on the system's basis) from trial phases rich in
-    /// each component present.
+    /// each component present, and, when tie lines have been traced at this temperature, from the ends of the tie line
+    /// nearest the mixture. A test that finds no negative distance is strong evidence, not proof, of stability: in the
+    /// thin metastable band along the binodal near the plait point the component-rich trial phases can all fall back to
+    /// the mixture.
     /// </summary>
     /// <exception cref="ArgumentException">When the fractions are invalid.</exception>
     public StabilityTestResult TestStability(Ternary overall, double temperatureKelvin)
@@ -121,7 +140,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> zs = [z.Solute, z.Diluent, z.Solvent];
         Span<double> trial = stackalloc double[N];
         int iterations = 0;
-        bool unstable = FindUnstableTrial(state, zs, trial, out double tm, ref iterations, stopAtFirst: false);
+        bool unstable = FindUnstableTrial(state, zs, trial, out double tm, ref iterations, stopAtFirst: false)
+            || FindUnstableFromFamily(state, temperatureKelvin, zs, trial, out tm, ref iterations);
         Ternary w = unstable ? new Ternary(trial[0], trial[1], trial[2]).Normalized() : z;
         return new StabilityTestResult(!unstable, tm, System.FromMole(w), iterations);
     }
@@ -162,7 +182,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// The plait point at a temperature, estimated as the middle of the shortest tie line traced from the binary end
-    /// (the two ends then differ by less than about 1e-3 in mole fraction when a plait point exists).
+    /// (its ends differ by a few thousandths in mole fraction when a plait point exists: tracing stops at tie lines
+    /// shorter than 0.001).
     /// </summary>
     /// <exception cref="EquilibriumException">When the diluent and solvent do not split at this temperature.</exception>
     public PlaitPointEstimate EstimatePlaitPoint(double temperatureKelvin)
@@ -184,6 +205,23 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     /// <summary>ln gamma at mole fractions <paramref name="x"/> (zero or more, summing to one) from a prepared state.</summary>
     private protected abstract void LnGammaCore(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma);
 
+    /// <summary>
+    /// ln gamma and its derivatives d ln gamma_i / d n_j (row-major 3 x 3) with respect to the mole numbers of one mole of
+    /// mixture of composition <paramref name="x"/>; false when the model has no analytic derivatives (finite
+    /// differences are used then).
+    /// </summary>
+    private protected virtual bool LnGammaDerivatives(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives) => false;
+
+    /// <summary>For tests: the analytic derivatives at a temperature, or false when the model has none.</summary>
+    internal bool TryLnGammaDerivatives(double temperatureKelvin, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives)
+    {
+        Span<double> state = stackalloc double[StateCapacity];
+        Prepare(temperatureKelvin, state);
+        return LnGammaDerivatives(state, x, lnGamma, derivatives);
+    }
+
+    private bool IsFamilyCached(double temperatureKelvin) => _family is { } f && f.TemperatureKelvin.Equals(temperatureKelvin);
+
     private static bool IsComposition(in Ternary t) =>
         t.Solute >= 0 && t.Diluent >= 0 && t.Solvent >= 0 && double.IsFinite(t.Sum) && t.Sum > 0;
 
@@ -198,7 +236,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         return System.ToMole(overall.Normalized());
     }
 
-    private PhaseSplit SplitMole(Ternary overall, Ternary zMole, double temperatureKelvin, bool hasWarmStart, Ternary warmA, Ternary warmB)
+    private PhaseSplit SplitMole(Ternary overall, Ternary zMole, double temperatureKelvin, bool hasWarmStart, Ternary warmA, Ternary warmB, bool useFamily = true)
     {
         Span<double> state = stackalloc double[StateCapacity];
         Prepare(temperatureKelvin, state);
@@ -236,26 +274,88 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> trial = stackalloc double[N];
         Span<double> zCopy = stackalloc double[N];
         z.CopyTo(zCopy);
-        if (!FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true))
-        {
-            return PhaseSplit.OnePhase(overall, iterations);
-        }
-
-        // Stationarity of the tangent plane distance gives W_i / z_i = gamma_i(z) / gamma_i(w): the starting ratios.
-        Span<double> lnK0 = stackalloc double[N];
-        for (int i = 0; i < N; i++)
-        {
-            lnK0[i] = z[i] > 0 && trial[i] > 0 ? Math.Log(trial[i] / z[i]) : 0;
-        }
-
-        if (TryTwoPhase(state, z, lnK0, xa, xb, out beta, ref iterations, substitutionSteps: MaxIterations))
+        if (useFamily && ColdStartFromTieLines && _family is { } cached && cached.TemperatureKelvin.Equals(temperatureKelvin)
+            && FamilyStart(state, cached, zCopy, xa, xb, out beta, ref iterations))
         {
             return ToSplit(overall, xa, xb, beta, iterations);
+        }
+
+        bool unstable = FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true);
+        if (unstable)
+        {
+            // Stationarity of the tangent plane distance gives W_i / z_i = gamma_i(z) / gamma_i(w): the starting ratios.
+            Span<double> lnK0 = stackalloc double[N];
+            for (int i = 0; i < N; i++)
+            {
+                lnK0[i] = z[i] > 0 && trial[i] > 0 ? Math.Log(trial[i] / z[i]) : 0;
+            }
+
+            if (TryTwoPhase(state, z, lnK0, xa, xb, out beta, ref iterations, substitutionSteps: MaxIterations))
+            {
+                return ToSplit(overall, xa, xb, beta, iterations);
+            }
+        }
+
+        // Near the plait point the trial phases may all fall back to the mixture, and substitution crawls: there the
+        // tie lines traced for this temperature locate the one through the mixture. They are traced for that (a few
+        // milliseconds) when the mixture is known to be unstable; a mixture the trial phases found stable is checked
+        // against them only when they are already there, so that one-phase splits at ever new temperatures stay cheap.
+        if (useFamily && (unstable || IsFamilyCached(temperatureKelvin)) && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
+        {
+            return ToSplit(overall, xa, xb, beta, iterations);
+        }
+
+        if (!unstable)
+        {
+            return PhaseSplit.OnePhase(overall, iterations);
         }
 
         throw new EquilibriumException(
             $"{ModelName} phase split of {F(overall)} at {F(temperatureKelvin)} K: the mixture is unstable but the two-phase " +
             $"calculation did not converge to isoactivity within {Tolerance:G3} in {MaxIterations} iterations.");
+    }
+
+    // Near the plait point the trial phases rich in one component can all fall back to the mixture itself although
+    // it splits. The tie lines traced for this temperature (when there are) then give two more trial phases: the ends
+    // of the tie line nearest the mixture.
+    private bool FindUnstableFromFamily(ReadOnlySpan<double> state, double temperatureKelvin, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations)
+    {
+        minTm = 0;
+        if (!IsFamilyCached(temperatureKelvin))
+        {
+            return false;
+        }
+
+        TieLineFamily family = Family(temperatureKelvin);
+
+        var zt = new Ternary(z[0], z[1], z[2]);
+        double bestDistance = double.PositiveInfinity;
+        int best = -1;
+        for (int k = 0; k < family.RaffinateMole.Length; k++)
+        {
+            Ternary r = family.RaffinateMole[k];
+            Ternary e = family.ExtractMole[k];
+            Ternary de = e - r;
+            double length2 = (de.Solute * de.Solute) + (de.Diluent * de.Diluent) + (de.Solvent * de.Solvent);
+            Ternary dz = zt - r;
+            double t = length2 > 0 ? Math.Clamp(((dz.Solute * de.Solute) + (dz.Diluent * de.Diluent) + (dz.Solvent * de.Solvent)) / length2, 0, 1) : 0;
+            double distance = Ternary.MaxDifference(zt, r + (t * de));
+            if (distance < bestDistance)
+            {
+                bestDistance = distance;
+                best = k;
+            }
+        }
+
+        if (best < 0 || bestDistance > 0.05)
+        {
+            return false;
+        }
+
+        Ternary rb = family.RaffinateMole[best];
+        Ternary eb = family.ExtractMole[best];
+        Span<double> starts = [rb.Solute, rb.Diluent, rb.Solvent, eb.Solute, eb.Diluent, eb.Solvent];
+        return FindUnstableTrial(state, z, starts, trial, out minTm, ref iterations, stopAtFirst: false);
     }
 
     private PhaseSplit ToSplit(Ternary overall, ReadOnlySpan<double> xa, ReadOnlySpan<double> xb, double betaB, int iterations)
@@ -283,6 +383,41 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     // Tangent plane distance stability test. Returns true with the (unnormalised) trial phase W of negative distance.
     private bool FindUnstableTrial(ReadOnlySpan<double> state, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations, bool stopAtFirst)
     {
+        // Trial phases rich in the diluent, the solvent, then the solute (the usual order of a split's phases).
+        int presentCount = 0;
+        for (int i = 0; i < N; i++)
+        {
+            if (z[i] > 0)
+            {
+                presentCount++;
+            }
+        }
+
+        Span<double> starts = stackalloc double[3 * N];
+        int count = 0;
+        ReadOnlySpan<int> order = [1, 2, 0];
+        foreach (int k in order)
+        {
+            if (!(z[k] > 0))
+            {
+                continue;
+            }
+
+            for (int i = 0; i < N; i++)
+            {
+                starts[(count * N) + i] = z[i] > 0 ? (i == k ? 0.98 : 0.02 / (presentCount - 1)) : 0;
+            }
+
+            count++;
+        }
+
+        return FindUnstableTrial(state, z, starts[..(count * N)], trial, out minTm, ref iterations, stopAtFirst);
+    }
+
+    // Tangent plane distance from each start (mole fractions, three per start): true with the (unnormalised) trial
+    // phase W of the most negative distance found.
+    private bool FindUnstableTrial(ReadOnlySpan<double> state, ReadOnlySpan<double> z, ReadOnlySpan<double> starts, Span<double> trial, out double minTm, ref int iterations, bool stopAtFirst)
+    {
         Span<double> d = stackalloc double[N];
         Span<double> lg = stackalloc double[N];
         LnGammaCore(state, z, lg);
@@ -297,31 +432,14 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         minTm = 0;
         bool found = false;
 
-        // Trial phases rich in the diluent, the solvent, then the solute (the usual order of a split's phases).
-        ReadOnlySpan<int> order = [1, 2, 0];
-        foreach (int k in order)
+        for (int start = 0; start < starts.Length / N; start++)
         {
-            if (!(z[k] > 0))
-            {
-                continue;
-            }
-
-            int presentCount = 0;
             for (int i = 0; i < N; i++)
             {
-                if (z[i] > 0)
-                {
-                    presentCount++;
-                }
-            }
-
-            for (int i = 0; i < N; i++)
-            {
-                w[i] = z[i] > 0 ? (i == k ? 0.98 : 0.02 / (presentCount - 1)) : 0;
+                w[i] = z[i] > 0 ? Math.Max(starts[(start * N) + i], 1e-12) : 0;
             }
 
             double tm = double.NaN;
-            bool converged = false;
             for (int it = 0; it < MaxIterations; it++)
             {
                 iterations++;
@@ -357,21 +475,16 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                     break;
                 }
 
-                if (change < 1e-10)
+                // Converged, or already proven unstable with a trial phase good enough to start the split from.
+                if (change < 1e-10 || (stopAtFirst && tm < -1e-6 && change < TrialExit))
                 {
-                    converged = true;
-                    break;
-                }
-
-                // Already proven unstable and the trial phase is good enough to start the split from.
-                if (stopAtFirst && tm < -1e-6 && change < 1e-4)
-                {
-                    converged = true;
                     break;
                 }
             }
 
-            if (converged && tm < -1e-10 && tm < minTm)
+            // A negative distance anywhere proves instability, converged or not (substitution lowers it step by
+            // step, slowly near the plait point).
+            if (tm < -1e-10 && tm < minTm)
             {
                 minTm = tm;
                 w.CopyTo(best);
@@ -391,62 +504,124 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         return found;
     }
 
-    // Substitution with Rachford-Rice, then Newton on the moles of phase B. Phase A/B compositions out, beta = moles of B per mole of feed.
+    // Substitution with Rachford-Rice, then Newton on the moles of phase B; phase compositions out, beta = moles of B
+    // per mole of feed. Substitution lowers the Gibbs energy at every step but slows down near the plait point; Newton
+    // takes over once the ratios settle, and if Newton fails substitution carries on to the tolerance.
     private bool TryTwoPhase(ReadOnlySpan<double> state, ReadOnlySpan<double> z, Span<double> lnK, Span<double> xa, Span<double> xb, out double beta, ref int iterations, int substitutionSteps)
     {
         Span<double> lga = stackalloc double[N];
         Span<double> lgb = stackalloc double[N];
+        Span<double> previousStep = stackalloc double[N];
+        Span<double> stepK = stackalloc double[N];
         beta = 0.5;
-        for (int it = 0; it < substitutionSteps; it++)
+        double change = double.PositiveInfinity;
+        int done = 0;
+        int attempts = 0;
+        double switchAt = NewtonSwitch;
+        while (true)
         {
-            iterations++;
-            if (!RachfordRice(z, lnK, ref beta))
+            for (; done < substitutionSteps; done++)
+            {
+                iterations++;
+                if (!RachfordRice(z, lnK, ref beta))
+                {
+                    return false;
+                }
+
+                PhasesFromK(z, lnK, beta, xa, xb);
+                LnGammaCore(state, xa, lga);
+                LnGammaCore(state, xb, lgb);
+                change = 0;
+                double spread = 0;
+                double dot = 0;
+                double previousNorm = 0;
+                for (int i = 0; i < N; i++)
+                {
+                    if (z[i] > 0)
+                    {
+                        double next = lga[i] - lgb[i];
+                        stepK[i] = next - lnK[i];
+                        change = Math.Max(change, Math.Abs(stepK[i]));
+                        dot += stepK[i] * previousStep[i];
+                        previousNorm += previousStep[i] * previousStep[i];
+                        lnK[i] = next;
+                        spread = Math.Max(spread, Math.Abs(next));
+                    }
+                }
+
+                if (spread < 1e-4)
+                {
+                    return false; // drifting to the trivial solution
+                }
+
+                if (change <= Tolerance)
+                {
+                    // Converged by substitution alone.
+                    if (!RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
+                    {
+                        return false;
+                    }
+
+                    PhasesFromK(z, lnK, beta, xa, xb);
+                    return Distance(xa, xb) > TrivialDistance;
+                }
+
+                // Every fifth step, extrapolate along the dominant eigenvalue of the substitution (Crowe and Nishio,
+                // AIChE J. 21, 528, 1975), which is what makes substitution slow near the plait point.
+                if (done % 5 == 4 && previousNorm > 0)
+                {
+                    double lambda = dot / previousNorm;
+                    if (lambda > 0 && lambda < 0.95)
+                    {
+                        for (int i = 0; i < N; i++)
+                        {
+                            lnK[i] += stepK[i] * lambda / (1 - lambda);
+                        }
+                    }
+                }
+
+                stepK.CopyTo(previousStep);
+                if (change < switchAt && done >= 2 && beta > 0 && beta < 1)
+                {
+                    done++;
+                    break;
+                }
+            }
+
+            if (!RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
             {
                 return false;
             }
 
             PhasesFromK(z, lnK, beta, xa, xb);
-            LnGammaCore(state, xa, lga);
-            LnGammaCore(state, xb, lgb);
-            double change = 0;
-            double spread = 0;
-            for (int i = 0; i < N; i++)
+            if (Newton(state, z, xa, xb, ref beta, ref iterations))
             {
-                if (z[i] > 0)
-                {
-                    double next = lga[i] - lgb[i];
-                    change = Math.Max(change, Math.Abs(next - lnK[i]));
-                    lnK[i] = next;
-                    spread = Math.Max(spread, Math.Abs(next));
-                }
+                return true;
             }
 
-            if (spread < 1e-4)
+            // Newton stopped early: substitute closer, then try once more; after that the caller falls back on the
+            // traced tie lines.
+            attempts++;
+            if (attempts >= 2 || done >= substitutionSteps)
             {
-                return false; // drifting to the trivial solution
+                return false;
             }
 
-            // Newton from here: substitution is slow near the plait point, Newton is not.
-            if (change < 1e-3 && beta > 0 && beta < 1)
+            switchAt *= 0.01;
+            if (!RachfordRice(z, lnK, ref beta))
             {
-                break;
+                return false;
             }
         }
-
-        if (!RachfordRice(z, lnK, ref beta) || !(beta > 0 && beta < 1))
-        {
-            return false;
-        }
-
-        PhasesFromK(z, lnK, beta, xa, xb);
-        return Newton(state, z, xa, xb, ref beta, ref iterations);
     }
 
     private bool Newton(ReadOnlySpan<double> state, ReadOnlySpan<double> z, Span<double> xa, Span<double> xb, ref double beta, ref int iterations)
     {
         Span<double> nb = stackalloc double[N];
         Span<double> na = stackalloc double[N];
+        Span<double> nbTrial = stackalloc double[N];
         Span<double> f = stackalloc double[N];
+        Span<double> fTrial = stackalloc double[N];
         Span<double> jac = stackalloc double[N * N];
         Span<double> ja = stackalloc double[N * N];
         Span<double> jb = stackalloc double[N * N];
@@ -457,6 +632,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
             na[i] = z[i] - nb[i];
         }
 
+        double previousResidual = double.PositiveInfinity;
+        int slow = 0;
         for (int it = 0; it < MaxIterations; it++)
         {
             iterations++;
@@ -465,18 +642,22 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 return false;
             }
 
-            double residual = 0;
-            for (int i = 0; i < N; i++)
-            {
-                residual = Math.Max(residual, Math.Abs(f[i]));
-            }
-
+            double residual = MaxAbs(f);
             if (residual <= Tolerance)
             {
-                double sb = nb[0] + nb[1] + nb[2];
-                beta = sb;
+                beta = nb[0] + nb[1] + nb[2];
                 return beta > 0 && beta < 1 && Distance(xa, xb) > TrivialDistance;
             }
+
+            // Newton converges fast or not at all: three steps in a row that do not halve the residual mean it is
+            // headed for a phase that vanishes or a start too far off (substitution near the plait point), so stop early.
+            slow = residual > 0.5 * previousResidual ? slow + 1 : 0;
+            if (slow >= 3)
+            {
+                return false;
+            }
+
+            previousResidual = residual;
 
             // d f / d nb = -(d mu_a / d na) - (d mu_b / d nb), with na = z - nb.
             for (int k = 0; k < N * N; k++)
@@ -504,7 +685,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 return false;
             }
 
-            // Newton step on nb (step solves J s = f, so nb -= s), cut back to keep both phases' moles positive.
+            // Newton step on nb (step solves J s = f, so nb -= s), cut back to keep both phases' moles positive,
+            // then halved until the residual falls.
             double lambda = 1;
             for (int i = 0; i < N; i++)
             {
@@ -522,13 +704,29 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
                 }
             }
 
+            bool accepted = false;
+            for (int attempt = 0; attempt < 12 && !accepted; attempt++, lambda *= 0.5)
+            {
+                for (int i = 0; i < N; i++)
+                {
+                    nbTrial[i] = z[i] > 0 ? nb[i] - (lambda * step[i]) : 0;
+                }
+
+                if (Residual(state, z, nbTrial, xa, xb, fTrial) && MaxAbs(fTrial) < residual)
+                {
+                    accepted = true;
+                }
+            }
+
+            if (!accepted)
+            {
+                return false;
+            }
+
             for (int i = 0; i < N; i++)
             {
-                if (z[i] > 0)
-                {
-                    nb[i] -= lambda * step[i];
-                    na[i] = z[i] - nb[i];
-                }
+                nb[i] = nbTrial[i];
+                na[i] = z[i] - nb[i];
             }
 
             if (Distance(xa, xb) < 1e-9)
@@ -539,6 +737,42 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
         return false;
     }
+
+    // f = mu(a) - mu(b) for phase B moles nb (phase A = z - nb); phase compositions out.
+    private bool Residual(ReadOnlySpan<double> state, ReadOnlySpan<double> z, ReadOnlySpan<double> nb, Span<double> xa, Span<double> xb, Span<double> f)
+    {
+        double ta = 0;
+        double tb = 0;
+        for (int i = 0; i < N; i++)
+        {
+            ta += z[i] - nb[i];
+            tb += nb[i];
+        }
+
+        if (!(ta > 0 && tb > 0))
+        {
+            return false;
+        }
+
+        for (int i = 0; i < N; i++)
+        {
+            xa[i] = (z[i] - nb[i]) / ta;
+            xb[i] = nb[i] / tb;
+        }
+
+        Span<double> lga = stackalloc double[N];
+        Span<double> lgb = stackalloc double[N];
+        LnGammaCore(state, xa, lga);
+        LnGammaCore(state, xb, lgb);
+        for (int i = 0; i < N; i++)
+        {
+            f[i] = z[i] > 0 ? Math.Log(xa[i]) + lga[i] - Math.Log(xb[i]) - lgb[i] : 0;
+        }
+
+        return true;
+    }
+
+    private static double MaxAbs(ReadOnlySpan<double> v) => Math.Max(Math.Abs(v[0]), Math.Max(Math.Abs(v[1]), Math.Abs(v[2])));
 
     // mu_i = ln x_i + ln gamma_i of a phase with moles n: adds sign * mu to f and writes d mu / d n into jac.
     private bool ChemicalPotentialJacobian(ReadOnlySpan<double> state, ReadOnlySpan<double> n, ReadOnlySpan<double> z, Span<double> x, Span<double> f, Span<double> jac, int sign, bool accumulate = false)
@@ -557,11 +791,31 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> lg = stackalloc double[N];
         Span<double> lgp = stackalloc double[N];
         Span<double> np = stackalloc double[N];
-        LnGammaCore(state, x, lg);
+        Span<double> dn = stackalloc double[N * N];
+        bool analytic = LnGammaDerivatives(state, x, lg, dn);
+        if (!analytic)
+        {
+            LnGammaCore(state, x, lg);
+        }
+
         for (int i = 0; i < N; i++)
         {
             double mu = z[i] > 0 ? Math.Log(x[i]) + lg[i] : 0;
             f[i] = accumulate ? f[i] + (sign * mu) : sign * mu;
+        }
+
+        if (analytic)
+        {
+            for (int i = 0; i < N; i++)
+            {
+                for (int j = 0; j < N; j++)
+                {
+                    double ideal = (i == j && z[i] > 0 ? 1 / n[i] : 0) - (1 / total);
+                    jac[(i * N) + j] = z[j] > 0 ? ideal + (dn[(i * N) + j] / total) : 0;
+                }
+            }
+
+            return true;
         }
 
         // d ln gamma_i / d n_j by forward differences of the normalised composition.

@@ -142,6 +142,68 @@ public sealed class NrtlModel : ActivityCoefficientModel
         }
     }
 
+    /// <inheritdoc />
+    /// <remarks>
+    /// NRTL's ln gamma is homogeneous of degree zero in the mole numbers, so d ln gamma_i / d n_k at one mole equals the
+    /// derivative with the fractions taken as independent:
+    /// G_ki (tau_ki - e_i) / S_i + G_ik (tau_ik - e_k) / S_k - sum_j x_j G_ij G_kj (tau_ij + tau_kj - 2 e_j) / S_j^2,
+    /// with S_j = sum_m x_m G_mj and e_j = sum_m x_m tau_mj G_mj / S_j.
+    /// </remarks>
+    private protected override bool LnGammaDerivatives(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives)
+    {
+        ReadOnlySpan<double> tau = state[..9];
+        ReadOnlySpan<double> g = state.Slice(9, 9);
+        Span<double> sums = stackalloc double[3];
+        Span<double> eps = stackalloc double[3];
+        for (int j = 0; j < 3; j++)
+        {
+            double d = 0;
+            double n = 0;
+            for (int k = 0; k < 3; k++)
+            {
+                double xg = x[k] * g[(k * 3) + j];
+                d += xg;
+                n += xg * tau[(k * 3) + j];
+            }
+
+            sums[j] = d;
+            eps[j] = n / d;
+        }
+
+        for (int i = 0; i < 3; i++)
+        {
+            double sum = eps[i];
+            for (int j = 0; j < 3; j++)
+            {
+                int ij = (i * 3) + j;
+                sum += x[j] * g[ij] / sums[j] * (tau[ij] - eps[j]);
+            }
+
+            lnGamma[i] = sum;
+        }
+
+        for (int i = 0; i < 3; i++)
+        {
+            for (int k = i; k < 3; k++)
+            {
+                int ik = (i * 3) + k;
+                int ki = (k * 3) + i;
+                double value = (g[ki] * (tau[ki] - eps[i]) / sums[i]) + (g[ik] * (tau[ik] - eps[k]) / sums[k]);
+                for (int j = 0; j < 3; j++)
+                {
+                    int ij = (i * 3) + j;
+                    int kj = (k * 3) + j;
+                    value -= x[j] * g[ij] * g[kj] * (tau[ij] + tau[kj] - (2 * eps[j])) / (sums[j] * sums[j]);
+                }
+
+                derivatives[ik] = value;
+                derivatives[ki] = value;
+            }
+        }
+
+        return true;
+    }
+
     private void Set(int i, int j, double a, double g, double alpha, double scale)
     {
         int k = (i * 3) + j;

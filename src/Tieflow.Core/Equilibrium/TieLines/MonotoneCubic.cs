@@ -14,6 +14,10 @@ internal sealed class MonotoneCubic
     private readonly double[][] _dLeft;
     private readonly double[][] _dRight;
 
+    // Per channel, per interval: the cubic in s = (t - x_i) / h as c0 + s (c1 + s (c2 + s c3)); and 1 / h per interval.
+    private readonly double[][] _coefficients;
+    private readonly double[] _inverseWidth;
+
     public MonotoneCubic(double[] x, params double[][] channels)
         : this(x, false, false, channels)
     {
@@ -78,6 +82,31 @@ internal sealed class MonotoneCubic
             _dLeft[c] = dl;
             _dRight[c] = dr;
         }
+
+        _inverseWidth = new double[n - 1];
+        _coefficients = new double[channels.Length][];
+        for (int i = 0; i < n - 1; i++)
+        {
+            _inverseWidth[i] = 1 / (x[i + 1] - x[i]);
+        }
+
+        for (int c = 0; c < channels.Length; c++)
+        {
+            double[] k = new double[4 * (n - 1)];
+            double[] y = _y[c];
+            for (int i = 0; i < n - 1; i++)
+            {
+                double h = x[i + 1] - x[i];
+                double m0 = h * _dLeft[c][i];
+                double m1 = h * _dRight[c][i];
+                k[4 * i] = y[i];
+                k[(4 * i) + 1] = m0;
+                k[(4 * i) + 2] = (3 * (y[i + 1] - y[i])) - (2 * m0) - m1;
+                k[(4 * i) + 3] = (2 * (y[i] - y[i + 1])) + m0 + m1;
+            }
+
+            _coefficients[c] = k;
+        }
     }
 
     public int Count => _x.Length;
@@ -115,18 +144,11 @@ internal sealed class MonotoneCubic
     /// <summary>Value of a channel at t within interval i (t is clamped to the interval).</summary>
     public double Value(int channel, int i, double t)
     {
-        double x0 = _x[i];
-        double h = _x[i + 1] - x0;
-        double s = (t - x0) / h;
+        double s = (t - _x[i]) * _inverseWidth[i];
         s = s < 0 ? 0 : (s > 1 ? 1 : s);
-        double[] y = _y[channel];
-        double s2 = s * s;
-        double s3 = s2 * s;
-        double h00 = (2 * s3) - (3 * s2) + 1;
-        double h10 = s3 - (2 * s2) + s;
-        double h01 = (-2 * s3) + (3 * s2);
-        double h11 = s3 - s2;
-        return (h00 * y[i]) + (h * h10 * _dLeft[channel][i]) + (h01 * y[i + 1]) + (h * h11 * _dRight[channel][i]);
+        double[] k = _coefficients[channel];
+        int b = 4 * i;
+        return k[b] + (s * (k[b + 1] + (s * (k[b + 2] + (s * k[b + 3])))));
     }
 
     public double Value(int channel, double t) => Value(channel, Locate(t), t);

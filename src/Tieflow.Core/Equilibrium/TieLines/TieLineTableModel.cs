@@ -53,6 +53,7 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
     private readonly double[] _bracketTau;
     private readonly Ternary[] _bracketRaffinate;
     private readonly Ternary[] _bracketExtract;
+    private readonly (double S, double V)[] _bracketUnit;
     private readonly (double S, double V)[]? _uncoveredRegion;
     private readonly SoluteLimits _limits;
 
@@ -124,6 +125,13 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
             // The plait point is a degenerate tie line (no direction): sample just before it.
             _bracketTau[m - 1] = tau[m - 1] - (1e-9 * (tau[m - 1] - tau[m - 2]));
             Evaluate(_bracketTau[m - 1], out _bracketRaffinate[m - 1], out _bracketExtract[m - 1]);
+        }
+
+        // Unit directions of the sampled tie lines, so that bracketing needs no square roots.
+        _bracketUnit = new (double S, double V)[m];
+        for (int k = 0; k < m; k++)
+        {
+            _bracketUnit[k] = Unit(_bracketExtract[k].Solute - _bracketRaffinate[k].Solute, _bracketExtract[k].Solvent - _bracketRaffinate[k].Solvent);
         }
 
         double maxRaffinate = 0;
@@ -256,10 +264,11 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
         double[] taus = _bracketTau;
         Ternary[] rs = _bracketRaffinate;
         Ternary[] es = _bracketExtract;
-        double cPrev = Collinearity(rs[0], es[0], zs, zv);
+        (double S, double V)[] units = _bracketUnit;
+        double cPrev = (units[0].S * (zv - rs[0].Solvent)) - (units[0].V * (zs - rs[0].Solute));
         for (int k = 0; k < taus.Length - 1; k++)
         {
-            double cNext = Collinearity(rs[k + 1], es[k + 1], zs, zv);
+            double cNext = (units[k + 1].S * (zv - rs[k + 1].Solvent)) - (units[k + 1].V * (zs - rs[k + 1].Solute));
             bool bracket = cPrev == 0 || (cPrev < 0 && cNext > 0) || (cPrev > 0 && cNext < 0);
             if (bracket)
             {
@@ -401,7 +410,9 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
 
             double tol = (2 * double.Epsilon) + (4e-16 * Math.Abs(b));
             double m = 0.5 * (c - b);
-            if (Math.Abs(m) <= tol || fb == 0)
+
+            // |fb| is the point's distance from the tie line: 1e-15 is far inside the balance the callers need.
+            if (Math.Abs(m) <= tol || Math.Abs(fb) < 1e-15)
             {
                 return b;
             }

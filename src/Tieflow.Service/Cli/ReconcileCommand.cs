@@ -1,0 +1,241 @@
+using System.Globalization;
+using System.Text.Json;
+using Spectre.Console;
+using Tieflow.Core.Reconciliation;
+using Tieflow.Service.Input;
+using Tieflow.Service.Output;
+
+namespace Tieflow.Service.Cli;
+
+/// <summary>
+/// <c>tieflow calc reconcile</c>: reconciles the measurements of a process network and tests for gross errors.
+/// The global and measurement tests are those of the reconciliation with every measurement; the estimates are those
+/// after serial elimination of the suspects (the same when there is none).
+/// </summary>
+internal static class ReconcileCommand
+{
+    public static int Run(CliContext context, string casePath, bool json)
+    {
+        ReconcileCase c = ReconcileCaseReader.Load(casePath);
+        var options = new ReconciliationOptions { Significance = c.Significance, MaxIterations = c.MaxIterations };
+        ReconciliationReport report = DataReconciler.Reconcile(c.Network, c.Measurements, options);
+        if (json)
+        {
+            JsonOutput.Print(context.Output, w => WriteJson(w, c, report));
+        }
+        else
+        {
+            WriteText(context.Console, c, report);
+        }
+
+        return ExitCodes.Success;
+    }
+
+    private static void WriteJson(Utf8JsonWriter w, ReconcileCase c, ReconciliationReport report)
+    {
+        ProcessNetwork network = c.Network;
+        var readings = c.Measurements.ToDictionary(m => m.Key, m => m.Value);
+        var suspects = new HashSet<QuantityKey>(report.Suspects);
+        w.WriteStartObject();
+        w.WriteString("status", report.Initial.Status == ReconciliationStatus.Reconciled ? "reconciled" : "nothing-redundant");
+        w.WriteStartArray("streams");
+        foreach (NetworkStream s in network.Streams)
+        {
+            w.WriteStartObject();
+            w.WriteString("id", s.Id);
+            w.WritePropertyName("flow");
+            WriteEstimate(w, report.Final.Flow(s.Id), readings, suspects);
+            w.WriteStartObject("fractions");
+            foreach (string component in network.Components)
+            {
+                w.WritePropertyName(component);
+                WriteEstimate(w, report.Final.Fraction(s.Id, component), readings, suspects);
+            }
+
+            w.WriteEndObject();
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+        w.WritePropertyName("globalTest");
+        WriteGlobalTest(w, report.Initial.GlobalTest);
+        w.WriteStartArray("measurementTests");
+        foreach (MeasurementTest t in report.Initial.MeasurementTests)
+        {
+            w.WriteStartObject();
+            WriteKey(w, t.Key);
+            w.WriteNumber("adjustment", JsonOutput.Round(t.Adjustment));
+            w.WriteNumber("normalized", JsonOutput.Round(t.Normalized));
+            w.WriteNumber("critical", JsonOutput.Round(t.Critical));
+            w.WriteBoolean("suspect", t.Suspect);
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+        w.WriteStartArray("suspects");
+        foreach (QuantityKey key in report.Suspects)
+        {
+            w.WriteStartObject();
+            WriteKey(w, key);
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+        w.WriteStartObject("afterElimination");
+        w.WriteNumber("removed", report.Suspects.Count);
+        w.WritePropertyName("globalTest");
+        WriteGlobalTest(w, report.Final.GlobalTest);
+        w.WriteEndObject();
+        w.WriteNumber("significance", c.Significance);
+        w.WriteNumber("iterations", report.Initial.Iterations);
+        JsonOutput.WriteNotice(w);
+        w.WriteEndObject();
+    }
+
+    private static void WriteEstimate(Utf8JsonWriter w, QuantityEstimate e, Dictionary<QuantityKey, double> readings, HashSet<QuantityKey> suspects)
+    {
+        w.WriteStartObject();
+        WriteNumberOrNull(w, "value", e.Value);
+        WriteNumberOrNull(w, "sigma", e.Sigma);
+        if (readings.TryGetValue(e.Key, out double reading))
+        {
+            w.WriteNumber("measured", reading);
+        }
+        else
+        {
+            w.WriteNull("measured");
+        }
+
+        // CONTRACTS.md knows three statuses; a measurement that no balance checks is determined (observable) but
+        // not adjusted, which "classification" says.
+        w.WriteString("status", e.Status switch
+        {
+            QuantityStatus.Redundant => "redundant",
+            QuantityStatus.Unobservable => "unobservable",
+            _ => "observable",
+        });
+        w.WriteString("classification", Classification(e.Status));
+        if (suspects.Contains(e.Key))
+        {
+            w.WriteBoolean("suspect", true);
+        }
+
+        w.WriteEndObject();
+    }
+
+    private static void WriteGlobalTest(Utf8JsonWriter w, GlobalTest g)
+    {
+        w.WriteStartObject();
+        w.WriteNumber("statistic", JsonOutput.Round(g.Statistic));
+        w.WriteNumber("dof", g.DegreesOfFreedom);
+        w.WriteNumber("critical", JsonOutput.Round(g.Critical));
+        w.WriteNumber("pValue", JsonOutput.Round(g.PValue));
+        w.WriteBoolean("passed", g.Passed);
+        w.WriteEndObject();
+    }
+
+    private static void WriteKey(Utf8JsonWriter w, QuantityKey key)
+    {
+        w.WriteString("stream", key.Stream);
+        w.WriteString("quantity", key.Quantity == MeasuredQuantity.Flow ? "flow" : "fraction");
+        if (key.Component is null)
+        {
+            w.WriteNull("component");
+        }
+        else
+        {
+            w.WriteString("component", key.Component);
+        }
+    }
+
+    private static void WriteNumberOrNull(Utf8JsonWriter w, string name, double value)
+    {
+        if (double.IsFinite(value))
+        {
+            w.WriteNumber(name, JsonOutput.Round(value));
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
+    }
+
+    private static string Classification(QuantityStatus status) => status switch
+    {
+        QuantityStatus.Redundant => "redundant",
+        QuantityStatus.NonRedundant => "non-redundant",
+        QuantityStatus.Observable => "observable",
+        _ => "unobservable",
+    };
+
+    private static void WriteText(IAnsiConsole console, ReconcileCase c, ReconciliationReport report)
+    {
+        ProcessNetwork network = c.Network;
+        ReconciliationResult initial = report.Initial;
+        ReconciliationResult final = report.Final;
+        var readings = c.Measurements.ToDictionary(m => m.Key, m => m.Value);
+        console.WriteLine($"Reconciliation of {Path.GetFileName(c.Path)}: {network.Nodes.Count} node(s), {network.Streams.Count} stream(s), " +
+            (network.IsFlowOnly ? "flow only" : $"components {string.Join(", ", network.Components)}") + $", {c.Measurements.Count} measurement(s)");
+
+        var table = new Table().Border(TableBorder.Simple);
+        table.AddColumn("stream");
+        table.AddColumn("quantity");
+        table.AddColumn(new TableColumn("measured").RightAligned());
+        table.AddColumn(new TableColumn("estimate").RightAligned());
+        table.AddColumn(new TableColumn("sigma").RightAligned());
+        table.AddColumn("status");
+        table.AddColumn(new TableColumn("normalised adj.").RightAligned());
+        table.AddColumn("test");
+        for (int v = 0; v < network.QuantityCount; v++)
+        {
+            QuantityEstimate e = final.Estimates[v];
+            string format = e.Key.Quantity == MeasuredQuantity.Flow ? "F3" : "F5";
+            string measured = readings.TryGetValue(e.Key, out double r) ? Num(r, format) : "-";
+            MeasurementTest? test = initial.TestOf(e.Key);
+            bool suspect = report.Suspects.Contains(e.Key);
+            table.AddRow(
+                Markup.Escape(e.Key.Stream),
+                Markup.Escape(e.Key.Quantity == MeasuredQuantity.Flow ? "flow" : $"x {e.Key.Component}"),
+                measured,
+                e.HasValue ? Num(e.Value, format) : "-",
+                e.HasValue ? Num(e.Sigma, format) : "-",
+                Classification(e.Status),
+                test is { } t ? Num(t.Normalized, "F3") : "-",
+                suspect ? $"suspect #{report.Suspects.ToList().IndexOf(e.Key) + 1}" : test is { Suspect: true } ? "above critical" : string.Empty);
+        }
+
+        console.Write(table);
+        GlobalTest g = initial.GlobalTest;
+        if (initial.Status == ReconciliationStatus.NothingRedundant)
+        {
+            console.WriteLine("Nothing is redundant: no balance checks any measurement, so nothing was adjusted (0 degrees of freedom). " +
+                "Add measurements to test the instruments.");
+        }
+        else
+        {
+            console.WriteLine($"Global test: statistic {Num(g.Statistic, "F4")} on {g.DegreesOfFreedom} degree(s) of freedom, critical {Num(g.Critical, "F3")} " +
+                $"at significance {Num(c.Significance, "G3")}, p = {Num(g.PValue, "G4")}: {(g.Passed ? "passed, no gross error detected" : "failed")}.");
+            if (initial.MeasurementTests.Count > 0)
+            {
+                console.WriteLine($"Measurement test: critical {Num(initial.MeasurementTests[0].Critical, "F3")} for {initial.MeasurementTests.Count} test(s) (Sidak correction).");
+            }
+        }
+
+        if (report.Suspects.Count > 0)
+        {
+            console.WriteLine($"Suspects, most suspect first: {string.Join("; ", report.Suspects)}. Estimates above are with them removed " +
+                $"(global test then {Num(final.GlobalTest.Statistic, "F4")} on {final.GlobalTest.DegreesOfFreedom} dof, {(final.GlobalTest.Passed ? "passed" : "failed")}).");
+        }
+
+        int unobservable = final.Estimates.Count(e => e.Status == QuantityStatus.Unobservable);
+        if (unobservable > 0)
+        {
+            console.WriteLine($"{unobservable} unmeasured quantit{(unobservable == 1 ? "y is" : "ies are")} not observable and got no value: " +
+                string.Join("; ", final.Estimates.Where(e => e.Status == QuantityStatus.Unobservable).Select(e => e.Key)) + ".");
+        }
+
+        TextOutput.WriteNotice(console);
+    }
+
+    private static string Num(double v, string format) => v.ToString(format, CultureInfo.InvariantCulture);
+}
