@@ -217,6 +217,33 @@ public sealed class UaClientTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task Reconnect_ChangeWhileLinkDown_DeliveredAfterReactivationWithoutGap()
+    {
+        // The session survives on the server: what it published meanwhile comes through (kept for the new Publish
+        // requests, or republished from its retransmission queue), so there is no gap (digest §1.13 step 5).
+        await using var proxy = new TcpProxy(_server.Port);
+        await using var client = new UaClient(Options() with { EndpointUrl = new Uri($"opc.tcp://127.0.0.1:{proxy.Port}/sim") });
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(100), MaxKeepAliveCount = 5 },
+            [new MonitoredNode { Node = _flow, Key = "flow" }]);
+        await NextDataAsync(subscription);
+
+        proxy.Cut();
+        _server.UpdateValue(_flow, Variant.From(5.0), StatusCodes.Good, new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc));
+        await WaitForReconnectAsync(client);
+        using var cts = new CancellationTokenSource(Wait);
+        while (true)
+        {
+            var e = await subscription.Events.ReadAsync(cts.Token);
+            Assert.IsNotType<UaDataGap>(e);
+            if (e is UaDataChange { Value.Value: double v } && Math.Abs(v - 5.0) < 1e-12)
+            {
+                break;
+            }
+        }
+    }
+
+    [Fact]
     public async Task Watchdog_LinkFrozen_NoticedAndRecoveredOverNewConnection()
     {
         await using var proxy = new TcpProxy(_server.Port);
