@@ -1007,9 +1007,14 @@ public sealed class UaClient : IAsyncDisposable
         if (sessionRestored)
         {
             // The server kept the session and its subscriptions: Republish fills what was missed (digest §1.13 step 5).
+            // Nothing is lost, but the plant was not observed live meanwhile (a frozen server samples nothing), so the
+            // interval is still reported for the store to mark.
+            var restoredAt = _time.GetUtcNow().UtcDateTime;
             foreach (var s in subscriptions)
             {
                 s.LastAliveTimestamp = _time.GetTimestamp();
+                var from = s.LastCompleteTime == default || s.LastCompleteTime > lostAt ? lostAt : s.LastCompleteTime;
+                s.ReportGap(from, restoredAt, $"The connection was interrupted; the session was reactivated and subscription {s.SubscriptionId} republishes what the server queued", notificationsMayBeMissing: false);
             }
 
             return;

@@ -144,7 +144,8 @@ public sealed class UaSubscription : IAsyncDisposable
         }
     }
 
-    internal void ReportGap(DateTime from, DateTime to, string reason) => _events.Writer.TryWrite(new UaDataGap(from, to, reason));
+    internal void ReportGap(DateTime from, DateTime to, string reason, bool notificationsMayBeMissing = true) =>
+        _events.Writer.TryWrite(new UaDataGap(from, to, reason) { NotificationsMayBeMissing = notificationsMayBeMissing });
 
     internal void Complete() => _events.Writer.TryComplete();
 

@@ -95,7 +95,9 @@ internal static class UaWatchHandler
                             case UaDataGap gap:
                                 lock (context.Error)
                                 {
-                                    context.Error.WriteLine($"gap: no data from {UaJson.Time(gap.From)} to {UaJson.Time(gap.To)}: {gap.Reason}");
+                                    context.Error.WriteLine(gap.NotificationsMayBeMissing
+                                        ? $"gap: no data from {UaJson.Time(gap.From)} to {UaJson.Time(gap.To)}: {gap.Reason}"
+                                        : $"gap: not observed live from {UaJson.Time(gap.From)} to {UaJson.Time(gap.To)} (nothing lost): {gap.Reason}");
                                 }
                                 break;
                         }
