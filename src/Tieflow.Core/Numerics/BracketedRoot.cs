@@ -7,8 +7,12 @@ namespace Tieflow.Core.Numerics;
 /// </summary>
 internal static class BracketedRoot
 {
-    /// <summary>Finds a root in [a, b]; false when the ends do not bracket one or the iteration limit is reached.</summary>
-    public static bool TryFind<TState>(Func<double, TState, double> f, TState state, double a, double b, double fa, double fb, double tolerance, int maxIterations, out double root, out int iterations)
+    /// <summary>
+    /// Finds a root in [a, b]; false when the ends do not bracket one or the iteration limit is reached. Stops when the
+    /// bracket is narrower than <paramref name="tolerance"/> (plus rounding), or when |f| is at most
+    /// <paramref name="functionTolerance"/> (default 0: only an exact zero), for callers whose f has a known scale.
+    /// </summary>
+    public static bool TryFind<TState>(Func<double, TState, double> f, TState state, double a, double b, double fa, double fb, double tolerance, int maxIterations, out double root, out int iterations, double functionTolerance = 0)
     {
         iterations = 0;
         if (fa == 0)
@@ -53,7 +57,7 @@ internal static class BracketedRoot
 
             double tol = (2 * double.Epsilon) + (4e-16 * Math.Abs(b)) + (0.5 * tolerance);
             double m = 0.5 * (c - b);
-            if (Math.Abs(m) <= tol || fb == 0)
+            if (Math.Abs(m) <= tol || Math.Abs(fb) <= functionTolerance)
             {
                 root = b;
                 return true;

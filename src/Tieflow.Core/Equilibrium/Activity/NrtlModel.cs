@@ -109,52 +109,17 @@ public sealed class NrtlModel : ActivityCoefficientModel
     /// <inheritdoc />
     private protected override void LnGammaCore(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma)
     {
-        ReadOnlySpan<double> tau = state[..9];
-        ReadOnlySpan<double> g = state.Slice(9, 9);
-        Span<double> den = stackalloc double[3];
-        Span<double> num = stackalloc double[3];
-        for (int j = 0; j < 3; j++)
-        {
-            // den_j = sum_k x_k G_kj, num_j = sum_m x_m tau_mj G_mj.
-            double d = 0;
-            double n = 0;
-            for (int k = 0; k < 3; k++)
-            {
-                double xg = x[k] * g[(k * 3) + j];
-                d += xg;
-                n += xg * tau[(k * 3) + j];
-            }
-
-            den[j] = d;
-            num[j] = n / d;
-        }
-
-        for (int i = 0; i < 3; i++)
-        {
-            double sum = num[i];
-            for (int j = 0; j < 3; j++)
-            {
-                int ij = (i * 3) + j;
-                sum += x[j] * g[ij] / den[j] * (tau[ij] - num[j]);
-            }
-
-            lnGamma[i] = sum;
-        }
+        Span<double> sums = stackalloc double[3];
+        Span<double> eps = stackalloc double[3];
+        LnGammaWithSums(state, x, lnGamma, sums, eps);
     }
 
-    /// <inheritdoc />
-    /// <remarks>
-    /// NRTL's ln gamma is homogeneous of degree zero in the mole numbers, so d ln gamma_i / d n_k at one mole equals the
-    /// derivative with the fractions taken as independent:
-    /// G_ki (tau_ki - e_i) / S_i + G_ik (tau_ik - e_k) / S_k - sum_j x_j G_ij G_kj (tau_ij + tau_kj - 2 e_j) / S_j^2,
-    /// with S_j = sum_m x_m G_mj and e_j = sum_m x_m tau_mj G_mj / S_j.
-    /// </remarks>
-    private protected override bool LnGammaDerivatives(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives)
+    // ln gamma_i = e_i + sum_j x_j G_ij (tau_ij - e_j) / S_j, with S_j = sum_k x_k G_kj and e_j = sum_m x_m tau_mj G_mj / S_j;
+    // S and e are returned too, for the derivatives.
+    private static void LnGammaWithSums(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> sums, Span<double> eps)
     {
         ReadOnlySpan<double> tau = state[..9];
         ReadOnlySpan<double> g = state.Slice(9, 9);
-        Span<double> sums = stackalloc double[3];
-        Span<double> eps = stackalloc double[3];
         for (int j = 0; j < 3; j++)
         {
             double d = 0;
@@ -181,7 +146,22 @@ public sealed class NrtlModel : ActivityCoefficientModel
 
             lnGamma[i] = sum;
         }
+    }
 
+    /// <inheritdoc />
+    /// <remarks>
+    /// NRTL's ln gamma is homogeneous of degree zero in the mole numbers, so d ln gamma_i / d n_k at one mole equals the
+    /// derivative with the fractions taken as independent:
+    /// G_ki (tau_ki - e_i) / S_i + G_ik (tau_ik - e_k) / S_k - sum_j x_j G_ij G_kj (tau_ij + tau_kj - 2 e_j) / S_j^2,
+    /// with S_j = sum_m x_m G_mj and e_j = sum_m x_m tau_mj G_mj / S_j.
+    /// </remarks>
+    private protected override bool LnGammaDerivatives(ReadOnlySpan<double> state, ReadOnlySpan<double> x, Span<double> lnGamma, Span<double> derivatives)
+    {
+        ReadOnlySpan<double> tau = state[..9];
+        ReadOnlySpan<double> g = state.Slice(9, 9);
+        Span<double> sums = stackalloc double[3];
+        Span<double> eps = stackalloc double[3];
+        LnGammaWithSums(state, x, lnGamma, sums, eps);
         for (int i = 0; i < 3; i++)
         {
             for (int k = i; k < 3; k++)

@@ -381,91 +381,25 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
         return Collinearity(r, e, zs, zv);
     }
 
-    // Brent's method (Brent, Algorithms for Minimization without Derivatives, 1973, ch. 4) on a bracketed root.
+    // Brent's method on the bracketing interval; |f| is the point's distance from the tie line, so 1e-15 is far inside
+    // the balance the callers need and saves the last iterations.
     private double SolveCollinear(double a, double b, double fa, double fb, double zs, double zv, out int iterations)
     {
         const int MaxIterations = 100;
-        double c = a;
-        double fc = fa;
-        double d = b - a;
-        double e = d;
-        for (iterations = 1; iterations <= MaxIterations; iterations++)
+        if (BracketedRoot.TryFind(
+            static (tau, s) => s.Model.CollinearityAt(tau, s.Zs, s.Zv),
+            (Model: this, Zs: zs, Zv: zv),
+            a,
+            b,
+            fa,
+            fb,
+            tolerance: 0,
+            MaxIterations,
+            out double root,
+            out iterations,
+            functionTolerance: 1e-15))
         {
-            if ((fb > 0 && fc > 0) || (fb < 0 && fc < 0))
-            {
-                c = a;
-                fc = fa;
-                d = b - a;
-                e = d;
-            }
-
-            if (Math.Abs(fc) < Math.Abs(fb))
-            {
-                a = b;
-                b = c;
-                c = a;
-                fa = fb;
-                fb = fc;
-                fc = fa;
-            }
-
-            double tol = (2 * double.Epsilon) + (4e-16 * Math.Abs(b));
-            double m = 0.5 * (c - b);
-
-            // |fb| is the point's distance from the tie line: 1e-15 is far inside the balance the callers need.
-            if (Math.Abs(m) <= tol || Math.Abs(fb) < 1e-15)
-            {
-                return b;
-            }
-
-            if (Math.Abs(e) >= tol && Math.Abs(fa) > Math.Abs(fb))
-            {
-                double s = fb / fa;
-                double p;
-                double q;
-                if (a == c)
-                {
-                    p = 2 * m * s;
-                    q = 1 - s;
-                }
-                else
-                {
-                    double qa = fa / fc;
-                    double r = fb / fc;
-                    p = s * ((2 * m * qa * (qa - r)) - ((b - a) * (r - 1)));
-                    q = (qa - 1) * (r - 1) * (s - 1);
-                }
-
-                if (p > 0)
-                {
-                    q = -q;
-                }
-                else
-                {
-                    p = -p;
-                }
-
-                if (2 * p < Math.Min((3 * m * q) - Math.Abs(tol * q), Math.Abs(e * q)))
-                {
-                    e = d;
-                    d = p / q;
-                }
-                else
-                {
-                    d = m;
-                    e = m;
-                }
-            }
-            else
-            {
-                d = m;
-                e = m;
-            }
-
-            a = b;
-            fa = fb;
-            b += Math.Abs(d) > tol ? d : (m > 0 ? tol : -tol);
-            fb = CollinearityAt(b, zs, zv);
+            return root;
         }
 
         throw new EquilibriumException($"Tie-line table: the search for the tie line through the point (solute {F(zs)}, solvent {F(zv)}) did not converge in {MaxIterations} iterations.");
