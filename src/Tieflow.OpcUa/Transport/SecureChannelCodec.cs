@@ -22,8 +22,6 @@ internal sealed class SecureChannelCodec
     /// <summary>Message header (12) + symmetric security header (4) + sequence header (8).</summary>
     public const int SymmetricHeaderSize = 24;
 
-    private const int MaxPartialMessages = 16;
-
     private static readonly byte[] NoneUriBytes = System.Text.Encoding.UTF8.GetBytes(SecurityPolicyNoneUri);
     private readonly TransportLimits _local;
     private readonly Dictionary<uint, Partial> _partials = [];
@@ -54,6 +52,12 @@ internal sealed class SecureChannelCodec
 
     /// <summary>Decides whether a received token id may be used (current token, or an old one within 125 % of its lifetime).</summary>
     public Func<uint, bool> IsTokenAccepted { get; set; } = _ => true;
+
+    /// <summary>
+    /// Most messages reassembled at once (default 16). A server sets 1: a peer must then finish one message before it
+    /// starts the next, which bounds the memory it can hold to one MaxMessageSize.
+    /// </summary>
+    public int MaxPartialMessages { get; init; } = 16;
 
     /// <summary>Status for an incoming message over a local limit: BadResponseTooLarge on a client, BadRequestTooLarge on a server.</summary>
     public StatusCode ReceiveTooLargeStatus { get; set; } = StatusCodes.BadResponseTooLarge;
@@ -221,7 +225,7 @@ internal sealed class SecureChannelCodec
 
             if (_partials.Count >= MaxPartialMessages)
             {
-                throw new UaDecodingException(StatusCodes.BadTcpNotEnoughResources, $"More than {MaxPartialMessages} messages are being reassembled at once");
+                throw new UaDecodingException(StatusCodes.BadTcpNotEnoughResources, $"Chunk of request {requestId} starts a new message while {_partials.Count} other(s) are being reassembled; at most {MaxPartialMessages} at once");
             }
 
             partial = new Partial(frame.MessageType);
