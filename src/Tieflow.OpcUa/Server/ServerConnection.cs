@@ -45,7 +45,7 @@ internal sealed class ServerConnection
         {
             IsTokenAccepted = _tokens.IsAccepted,
             ReceiveTooLargeStatus = StatusCodes.BadTcpMessageTooLarge,
-            MaxPartialMessages = 1,
+            InterleavedMessagesAllowed = false,
         };
     }
 

@@ -22,6 +22,8 @@ internal sealed class SecureChannelCodec
     /// <summary>Message header (12) + symmetric security header (4) + sequence header (8).</summary>
     public const int SymmetricHeaderSize = 24;
 
+    private const int MaxPartialMessages = 16;
+
     private static readonly byte[] NoneUriBytes = System.Text.Encoding.UTF8.GetBytes(SecurityPolicyNoneUri);
     private readonly TransportLimits _local;
     private readonly Dictionary<uint, Partial> _partials = [];
@@ -54,10 +56,11 @@ internal sealed class SecureChannelCodec
     public Func<uint, bool> IsTokenAccepted { get; set; } = _ => true;
 
     /// <summary>
-    /// Most messages reassembled at once (default 16). A server sets 1: a peer must then finish one message before it
-    /// starts the next, which bounds the memory it can hold to one MaxMessageSize.
+    /// Whether chunks of different messages may arrive interleaved (default true, up to 16 messages at once). A server
+    /// sets false: a chunk of another request while one is being reassembled is then BadTcpMessageTypeInvalid, which
+    /// bounds what a peer can make it hold to one MaxMessageSize.
     /// </summary>
-    public int MaxPartialMessages { get; init; } = 16;
+    public bool InterleavedMessagesAllowed { get; init; } = true;
 
     /// <summary>Status for an incoming message over a local limit: BadResponseTooLarge on a client, BadRequestTooLarge on a server.</summary>
     public StatusCode ReceiveTooLargeStatus { get; set; } = StatusCodes.BadResponseTooLarge;
@@ -213,6 +216,11 @@ internal sealed class SecureChannelCodec
 
         if (!_partials.TryGetValue(requestId, out var partial))
         {
+            if (!InterleavedMessagesAllowed && _partials.Count > 0)
+            {
+                throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, $"Chunk of request {requestId} interleaved with request {_partials.Keys.First()}");
+            }
+
             if (final)
             {
                 if (bodyLength > _local.MaxMessageSize)
@@ -225,7 +233,7 @@ internal sealed class SecureChannelCodec
 
             if (_partials.Count >= MaxPartialMessages)
             {
-                throw new UaDecodingException(StatusCodes.BadTcpNotEnoughResources, $"Chunk of request {requestId} starts a new message while {_partials.Count} other(s) are being reassembled; at most {MaxPartialMessages} at once");
+                throw new UaDecodingException(StatusCodes.BadTcpNotEnoughResources, $"More than {MaxPartialMessages} messages are being reassembled at once");
             }
 
             partial = new Partial(frame.MessageType);
