@@ -139,7 +139,7 @@ internal sealed class ServerConnection
     /// <summary>Sends a service response as one or more MSG chunks (thread-safe).</summary>
     public void SendResponse(uint requestId, IServiceResponse response)
     {
-        var body = EncodeBody(response);
+        var body = MessageCodec.Encode(response);
         lock (_sendLock)
         {
             List<byte[]> chunks;
@@ -159,7 +159,7 @@ internal sealed class ServerConnection
                         ServiceResult = StatusCodes.BadResponseTooLarge,
                     },
                 };
-                chunks = _codec.EncodeChunks(TcpMessageType.Message, requestId, EncodeBody(fault), StatusCodes.BadResponseTooLarge);
+                chunks = _codec.EncodeChunks(TcpMessageType.Message, requestId, MessageCodec.Encode(fault), StatusCodes.BadResponseTooLarge);
             }
             foreach (var chunk in chunks)
             {
@@ -320,7 +320,7 @@ internal sealed class ServerConnection
                 SecurityToken = new ChannelSecurityToken { ChannelId = _codec.ChannelId, TokenId = tokenId, CreatedAt = now, RevisedLifetime = lifetime },
                 ServerNonce = [],
             };
-            foreach (var chunk in _codec.EncodeChunks(TcpMessageType.OpenSecureChannel, message.RequestId, EncodeBody(response), StatusCodes.BadResponseTooLarge))
+            foreach (var chunk in _codec.EncodeChunks(TcpMessageType.OpenSecureChannel, message.RequestId, MessageCodec.Encode(response), StatusCodes.BadResponseTooLarge))
             {
                 _outgoing.Writer.TryWrite(chunk);
             }
@@ -419,12 +419,4 @@ internal sealed class ServerConnection
 
     private static bool IsNamedHelloStatus(StatusCode status) =>
         status == StatusCodes.BadConnectionRejected || status == StatusCodes.BadTcpEndpointUrlInvalid;
-
-    private static byte[] EncodeBody(IEncodeable value)
-    {
-        var writer = new UaBinaryWriter(256);
-        writer.WriteNodeId(new NodeId(value.BinaryEncodingId));
-        value.Encode(writer);
-        return writer.ToArray();
-    }
 }
