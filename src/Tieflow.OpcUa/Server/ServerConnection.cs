@@ -2,65 +2,57 @@ using System.Buffers.Binary;
 using System.Net.Sockets;
 using System.Threading.Channels;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Server;
 
 /// <summary>
 /// One client connection of the server: UA TCP (Hello/Acknowledge/Error, OPC 10000-6 §7.1) and UA Secure Conversation
-/// with SecurityPolicy None (OPN/MSG/CLO chunks, §6.7). Every length is checked before allocating; input beyond a
-/// limit is refused with an ERR message naming the status, and the socket is closed. Requests are handed to the
-/// <see cref="ServerEngine"/>; responses may be sent from any thread.
+/// with SecurityPolicy None (OPN/MSG/CLO chunks, §6.7). Framing, the Hello negotiation, chunk splitting and
+/// reassembly, limits, sequence numbers and tokens are the shared Transport types (<see cref="TcpFrameReader"/>,
+/// <see cref="TcpAcknowledge.Accept"/>, <see cref="SecureChannelCodec"/>, <see cref="SecurityTokenSet"/>); this class
+/// adds the server's rules on top: Hello first and once, OPN in one final chunk, Issue/Renew, one message reassembled
+/// at a time. Input beyond a limit is refused with an ERR message naming the status, and the socket is closed.
+/// Requests are handed to the <see cref="ServerEngine"/>; responses may be sent from any thread.
 /// </summary>
 internal sealed class ServerConnection
 {
-    private const string NonePolicyUri = "http://opcfoundation.org/UA/SecurityPolicy#None";
-    private const int HeaderSize = 8;
-    private const int SymmetricOverhead = HeaderSize + 4 + 4 + 8;
-    private const int MaxBytesBeforeHello = 4096;
-    private const int MinBufferSize = 8192;
+    private const int MaxReasonLength = 1024;
 
     private static readonly TimeSpan HelloTimeout = TimeSpan.FromSeconds(10);
 
-    private readonly Socket _socket;
     private readonly NetworkStream _stream;
     private readonly ServerEngine _engine;
     private readonly ServerLimits _limits;
+    private readonly SecureChannelCodec _codec;
+    private readonly SecurityTokenSet _tokens;
     private readonly Channel<byte[]> _outgoing = Channel.CreateUnbounded<byte[]>(new UnboundedChannelOptions { SingleReader = true });
     private readonly Lock _sendLock = new();
     private readonly CancellationTokenSource _closed = new();
-    private readonly List<byte[]> _partialChunks = [];
-    private int _partialBytes;
-    private uint _partialRequestId;
 
     private bool _helloDone;
-    private int _receiveBufferSize;
-    private int _sendChunkSize;
-    private uint _peerMaxMessageSize;
-    private uint _peerMaxChunkCount;
-
-    private uint _channelId;
-    private uint _currentTokenId;
-    private uint _previousTokenId;
-    private uint _responseTokenId;
-    private DateTime _tokenExpires = DateTime.MaxValue;
-    private DateTime _previousTokenExpires = DateTime.MinValue;
-    private bool _hasReceivedSequence;
-    private uint _lastReceivedSequence;
-    private uint _sendSequence;
+    private int _receiveBufferSize = TcpFrameReader.MaxSizeBeforeHello;
+    private uint _lastTokenId;
     private int _closing;
 
     public ServerConnection(Socket socket, ServerEngine engine, ServerLimits limits)
     {
-        _socket = socket;
         _stream = new NetworkStream(socket, ownsSocket: true);
         _engine = engine;
         _limits = limits;
+        _tokens = new SecurityTokenSet(engine.Time);
+        _codec = new SecureChannelCodec(limits.Transport)
+        {
+            IsTokenAccepted = _tokens.IsAccepted,
+            ReceiveTooLargeStatus = StatusCodes.BadTcpMessageTooLarge,
+            InterleavedMessagesAllowed = false,
+        };
     }
 
     /// <summary>The EndpointUrl the client gave in its Hello.</summary>
     public string? HelloEndpointUrl { get; private set; }
 
-    public uint ChannelId => _channelId;
+    public uint ChannelId => _codec.ChannelId;
 
     public bool IsClosed => _closed.IsCancellationRequested;
 
@@ -89,8 +81,9 @@ internal sealed class ServerConnection
         {
             // Closed while reading.
         }
-        catch (ProtocolViolation violation)
+        catch (UaDecodingException violation)
         {
+            // A channel-level failure (the codec's and this class's checks): ERR naming the status, then close.
             SendErrorAndClose(violation.Status, violation.Message);
         }
         catch (Exception e)
@@ -135,9 +128,9 @@ internal sealed class ServerConnection
     }
 
     /// <summary>Closes the channel when its token has expired without renewal (lifetime plus 25 %).</summary>
-    public void CheckExpiry(DateTime now)
+    public void CheckExpiry()
     {
-        if (_channelId != 0 && now > _tokenExpires)
+        if (_codec.ChannelId != 0 && _tokens.IsCurrentExpired())
         {
             SendErrorAndClose(StatusCodes.BadSecureChannelClosed, "the secure channel token expired without renewal");
         }
@@ -146,39 +139,30 @@ internal sealed class ServerConnection
     /// <summary>Sends a service response as one or more MSG chunks (thread-safe).</summary>
     public void SendResponse(uint requestId, IServiceResponse response)
     {
-        var body = EncodeBody(response);
-        var maxBody = _sendChunkSize - SymmetricOverhead;
-        var chunkCount = (body.Length + maxBody - 1) / maxBody;
-        // 0 from the peer means "no limit": our own limit applies then (digest §5, MaxMessageSize 0).
-        var maxMessage = _peerMaxMessageSize == 0 ? (uint)_limits.MaxMessageSize : Math.Min(_peerMaxMessageSize, (uint)_limits.MaxMessageSize);
-        if (body.Length > maxMessage || (_peerMaxChunkCount != 0 && chunkCount > _peerMaxChunkCount))
-        {
-            var fault = new ServiceFault
-            {
-                ResponseHeader = new ResponseHeader
-                {
-                    Timestamp = response.ResponseHeader.Timestamp,
-                    RequestHandle = response.ResponseHeader.RequestHandle,
-                    ServiceResult = StatusCodes.BadResponseTooLarge,
-                },
-            };
-            body = EncodeBody(fault);
-            chunkCount = 1;
-        }
+        var body = MessageCodec.Encode(response);
         lock (_sendLock)
         {
-            var token = _responseTokenId;
-            for (var i = 0; i < chunkCount; i++)
+            List<byte[]> chunks;
+            try
             {
-                var offset = i * maxBody;
-                var length = Math.Min(maxBody, body.Length - offset);
-                var chunk = new byte[SymmetricOverhead + length];
-                WriteHeader(chunk, "MSG", i == chunkCount - 1 ? (byte)'F' : (byte)'C');
-                BinaryPrimitives.WriteUInt32LittleEndian(chunk.AsSpan(8), _channelId);
-                BinaryPrimitives.WriteUInt32LittleEndian(chunk.AsSpan(12), token);
-                BinaryPrimitives.WriteUInt32LittleEndian(chunk.AsSpan(16), NextSendSequence());
-                BinaryPrimitives.WriteUInt32LittleEndian(chunk.AsSpan(20), requestId);
-                body.AsSpan(offset, length).CopyTo(chunk.AsSpan(SymmetricOverhead));
+                chunks = _codec.EncodeChunks(TcpMessageType.Message, requestId, body, StatusCodes.BadResponseTooLarge);
+            }
+            catch (ServiceResultException e) when (e.Status == StatusCodes.BadResponseTooLarge)
+            {
+                // Over the peer's MaxMessageSize / MaxChunkCount (or our own MaxMessageSize): that request gets a fault.
+                var fault = new ServiceFault
+                {
+                    ResponseHeader = new ResponseHeader
+                    {
+                        Timestamp = response.ResponseHeader.Timestamp,
+                        RequestHandle = response.ResponseHeader.RequestHandle,
+                        ServiceResult = StatusCodes.BadResponseTooLarge,
+                    },
+                };
+                chunks = _codec.EncodeChunks(TcpMessageType.Message, requestId, MessageCodec.Encode(fault), StatusCodes.BadResponseTooLarge);
+            }
+            foreach (var chunk in chunks)
+            {
                 _outgoing.Writer.TryWrite(chunk);
             }
         }
@@ -191,313 +175,199 @@ internal sealed class ServerConnection
         {
             return;
         }
-        var writer = new UaBinaryWriter(64);
-        writer.WriteUInt32(status.Code);
-        writer.WriteString(reason.Length > 1024 ? reason[..1024] : reason);
-        var payload = writer.ToArray();
-        var message = new byte[HeaderSize + payload.Length];
-        WriteHeader(message, "ERR", (byte)'F');
-        payload.CopyTo(message, HeaderSize);
-        _outgoing.Writer.TryWrite(message);
+        _outgoing.Writer.TryWrite(new TcpError(status, reason.Length > MaxReasonLength ? reason[..MaxReasonLength] : reason).Encode());
         _outgoing.Writer.TryComplete();
     }
 
     private async Task ReadLoopAsync(CancellationToken ct)
     {
-        var header = new byte[HeaderSize];
         while (true)
         {
-            if (!_helloDone)
+            TcpFrame frame;
+            try
             {
-                using var helloTimeout = CancellationTokenSource.CreateLinkedTokenSource(ct);
-                helloTimeout.CancelAfter(HelloTimeout);
-                if (!await ReadExactlyOrEndAsync(header, helloTimeout.Token).ConfigureAwait(false))
+                if (!_helloDone)
                 {
-                    return;
+                    using var helloTimeout = CancellationTokenSource.CreateLinkedTokenSource(ct);
+                    helloTimeout.CancelAfter(HelloTimeout);
+                    frame = await TcpFrameReader.ReadAsync(_stream, _receiveBufferSize, helloTimeout.Token).ConfigureAwait(false);
+                }
+                else
+                {
+                    frame = await TcpFrameReader.ReadAsync(_stream, _receiveBufferSize, ct).ConfigureAwait(false);
                 }
             }
-            else if (!await ReadExactlyOrEndAsync(header, ct).ConfigureAwait(false))
+            catch (ServiceResultException e) when (e is not UaDecodingException && e.Status == StatusCodes.BadConnectionClosed)
             {
+                // The peer went away (or closed its sending side).
                 return;
             }
-            var type = System.Text.Encoding.ASCII.GetString(header, 0, 3);
-            var chunkType = header[3];
-            var size = BinaryPrimitives.ReadUInt32LittleEndian(header.AsSpan(4));
-            var limit = _helloDone ? (uint)_receiveBufferSize : MaxBytesBeforeHello;
-            if (type is not ("HEL" or "OPN" or "MSG" or "CLO") || chunkType is not ((byte)'F' or (byte)'C' or (byte)'A'))
+            switch (frame.MessageType)
             {
-                throw new ProtocolViolation(StatusCodes.BadTcpMessageTypeInvalid, $"message type {Printable(header)} is not HEL, OPN, MSG or CLO with chunk type F, C or A");
-            }
-            if (size > limit)
-            {
-                throw new ProtocolViolation(StatusCodes.BadTcpMessageTooLarge, $"message size {size} exceeds the limit of {limit} bytes");
-            }
-            if (size < HeaderSize + 8)
-            {
-                throw new ProtocolViolation(StatusCodes.BadDecodingError, $"message size {size} is too small for a {type} message");
-            }
-            var body = new byte[size - HeaderSize];
-            if (!await ReadExactlyOrEndAsync(body, ct).ConfigureAwait(false))
-            {
-                return;
-            }
-            if (type == "HEL")
-            {
-                OnHello(body, chunkType);
-                continue;
-            }
-            if (!_helloDone)
-            {
-                throw new ProtocolViolation(StatusCodes.BadTcpMessageTypeInvalid, $"{type} before Hello");
-            }
-            switch (type)
-            {
-                case "OPN":
-                    OnOpen(body, chunkType);
+                case TcpMessageType.Hello:
+                    OnHello(frame);
                     break;
-                case "CLO":
-                    CheckSymmetricHeader(body);
+                case TcpMessageType.OpenSecureChannel or TcpMessageType.Message or TcpMessageType.CloseSecureChannel when !_helloDone:
+                    throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, $"{TcpMessageType.Name(frame.MessageType)} before Hello");
+                case TcpMessageType.OpenSecureChannel:
+                    OnOpen(frame);
+                    break;
+                case TcpMessageType.Message:
+                    OnMessageChunk(frame);
+                    break;
+                case TcpMessageType.CloseSecureChannel:
+                    // Checked like any chunk (channel, token, sequence), then the connection ends.
+                    RequireChannel(frame);
+                    _ = _codec.AddChunk(frame);
                     return;
                 default:
-                    OnMessageChunk(body, chunkType);
-                    break;
+                    throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, $"message type {TcpMessageType.Name(frame.MessageType)} is not HEL, OPN, MSG or CLO");
             }
         }
     }
 
-    private void OnHello(byte[] body, byte chunkType)
+    private void OnHello(TcpFrame frame)
     {
         if (_helloDone)
         {
-            throw new ProtocolViolation(StatusCodes.BadTcpMessageTypeInvalid, "a second Hello on the same connection");
+            throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, "a second Hello on the same connection");
         }
-        if (chunkType != (byte)'F')
-        {
-            throw new ProtocolViolation(StatusCodes.BadTcpMessageTypeInvalid, "Hello must be a final chunk");
-        }
+        TcpHello hello;
+        TcpAcknowledge ack;
         try
         {
-            var reader = new UaBinaryReader(body, new EncodingLimits { MaxStringLength = MaxBytesBeforeHello });
-            _ = reader.ReadUInt32();
-            var peerReceive = reader.ReadUInt32();
-            var peerSend = reader.ReadUInt32();
-            _peerMaxMessageSize = reader.ReadUInt32();
-            _peerMaxChunkCount = reader.ReadUInt32();
-            HelloEndpointUrl = reader.ReadString();
-            if (peerReceive < MinBufferSize || peerSend < MinBufferSize)
-            {
-                throw new ProtocolViolation(StatusCodes.BadConnectionRejected, $"buffer sizes {peerReceive}/{peerSend} are below the minimum of {MinBufferSize} bytes");
-            }
-            _receiveBufferSize = (int)Math.Min(peerSend, (uint)_limits.ReceiveBufferSize);
-            _sendChunkSize = (int)Math.Min(peerReceive, (uint)_limits.SendBufferSize);
+            hello = TcpHello.Decode(frame);
+            HelloEndpointUrl = hello.EndpointUrl.Length == 0 ? null : hello.EndpointUrl;
+            ack = TcpAcknowledge.Accept(hello, _limits.Transport);
         }
-        catch (UaDecodingException e)
+        catch (UaDecodingException e) when (!IsNamedHelloStatus(e.Status))
         {
-            throw new ProtocolViolation(e.Status.IsBad && e.Status.Is(StatusCodes.BadEncodingLimitsExceeded) ? StatusCodes.BadTcpEndpointUrlInvalid : StatusCodes.BadDecodingError, "Hello: " + e.Message);
+            throw new UaDecodingException(StatusCodes.BadDecodingError, "Hello: " + e.Message);
         }
+        _receiveBufferSize = (int)ack.ReceiveBufferSize;
+        _codec.PeerReceiveBufferSize = (int)ack.SendBufferSize;
+        // 0 from the peer means "no limit": our own limit applies then (digest §5, MaxMessageSize 0); the codec refuses
+        // a response over this and SendResponse answers BadResponseTooLarge instead.
+        _codec.PeerMaxMessageSize = Math.Min(hello.MaxMessageSize == 0 ? uint.MaxValue : hello.MaxMessageSize, (uint)_limits.Transport.MaxMessageSize);
+        _codec.PeerMaxChunkCount = hello.MaxChunkCount;
         _helloDone = true;
-        var ack = new byte[HeaderSize + 20];
-        WriteHeader(ack, "ACK", (byte)'F');
-        BinaryPrimitives.WriteUInt32LittleEndian(ack.AsSpan(8), 0);
-        BinaryPrimitives.WriteUInt32LittleEndian(ack.AsSpan(12), (uint)_receiveBufferSize);
-        BinaryPrimitives.WriteUInt32LittleEndian(ack.AsSpan(16), (uint)_sendChunkSize);
-        BinaryPrimitives.WriteUInt32LittleEndian(ack.AsSpan(20), (uint)_limits.MaxMessageSize);
-        BinaryPrimitives.WriteUInt32LittleEndian(ack.AsSpan(24), (uint)_limits.MaxChunkCount);
-        _outgoing.Writer.TryWrite(ack);
+        _outgoing.Writer.TryWrite(ack.Encode());
     }
 
-    private void OnOpen(byte[] body, byte chunkType)
+    private void OnOpen(TcpFrame frame)
     {
-        if (chunkType != (byte)'F')
+        if (frame.ChunkType != TcpMessageType.Final)
         {
-            throw new ProtocolViolation(StatusCodes.BadTcpMessageTypeInvalid, "OpenSecureChannel must fit in one final chunk");
+            throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, "OpenSecureChannel must fit in one final chunk");
+        }
+        // The codec checks the headers (policy, channel id, sequence number) before this reads the channel id again.
+        var message = _codec.AddChunk(frame)!;
+        var channelId = BinaryPrimitives.ReadUInt32LittleEndian(frame.Buffer.AsSpan(TcpMessageType.HeaderSize));
+        if (_codec.ChannelId != 0 && channelId != _codec.ChannelId)
+        {
+            // The codec lets a Renew name channel 0; this server does not.
+            throw new UaDecodingException(StatusCodes.BadTcpSecureChannelUnknown, $"secure channel {channelId} is not this connection's ({_codec.ChannelId})");
+        }
+        if (!message.IsGood)
+        {
+            throw new UaDecodingException(message.Status, message.Reason ?? "the OpenSecureChannel request exceeds the server's limits");
         }
         OpenSecureChannelRequest request;
-        uint requestId;
         try
         {
-            var reader = new UaBinaryReader(body, _limits.Encoding);
-            var channelId = reader.ReadUInt32();
-            var policy = reader.ReadString();
-            _ = reader.ReadByteString();
-            _ = reader.ReadByteString();
-            var sequence = reader.ReadUInt32();
-            requestId = reader.ReadUInt32();
-            if (!string.Equals(policy, NonePolicyUri, StringComparison.Ordinal))
-            {
-                throw new ProtocolViolation(StatusCodes.BadSecurityPolicyRejected, $"security policy '{policy}' is not supported (only {NonePolicyUri})");
-            }
-            if (_channelId != 0 && channelId != _channelId)
-            {
-                throw new ProtocolViolation(StatusCodes.BadTcpSecureChannelUnknown, $"secure channel {channelId} is not this connection's ({_channelId})");
-            }
-            CheckSequence(sequence);
+            var reader = new UaBinaryReader(message.Body, _limits.Encoding);
             var typeId = reader.ReadNodeId();
             if (typeId != new NodeId(OpenSecureChannelRequest.EncodingId))
             {
-                throw new ProtocolViolation(StatusCodes.BadDecodingError, $"OPN carries {typeId}, expected an OpenSecureChannelRequest (i=446)");
+                throw new UaDecodingException(StatusCodes.BadDecodingError, $"OPN carries {typeId}, expected an OpenSecureChannelRequest (i=446)");
             }
             request = new OpenSecureChannelRequest();
             request.Decode(reader);
         }
         catch (UaDecodingException e)
         {
-            throw new ProtocolViolation(StatusCodes.BadDecodingError, "OpenSecureChannel: " + e.Message);
+            throw new UaDecodingException(StatusCodes.BadDecodingError, "OpenSecureChannel: " + e.Message);
         }
         if (request.SecurityMode != MessageSecurityMode.None)
         {
-            throw new ProtocolViolation(StatusCodes.BadSecurityModeRejected, $"security mode {request.SecurityMode} is not supported (only None)");
+            throw new UaDecodingException(StatusCodes.BadSecurityModeRejected, $"security mode {request.SecurityMode} is not supported (only None)");
         }
-        var now = _engine.Now;
-        if (request.RequestType == SecurityTokenRequestType.Issue)
+        var issue = request.RequestType == SecurityTokenRequestType.Issue;
+        if (issue && _codec.ChannelId != 0)
         {
-            if (_channelId != 0)
-            {
-                throw new ProtocolViolation(StatusCodes.BadTcpSecureChannelUnknown, "a second Issue on an open secure channel");
-            }
-            _channelId = _engine.NextChannelId();
+            throw new UaDecodingException(StatusCodes.BadTcpSecureChannelUnknown, "a second Issue on an open secure channel");
         }
-        else if (_channelId == 0)
+        if (!issue && _codec.ChannelId == 0)
         {
-            throw new ProtocolViolation(StatusCodes.BadTcpSecureChannelUnknown, "Renew before the secure channel was issued");
+            throw new UaDecodingException(StatusCodes.BadTcpSecureChannelUnknown, "Renew before the secure channel was issued");
         }
         var lifetime = request.RequestedLifetime == 0 ? 600_000u : Math.Clamp(request.RequestedLifetime, 1_000u, 3_600_000u);
-        lock (_sendLock)
-        {
-            _previousTokenId = _currentTokenId;
-            _previousTokenExpires = _tokenExpires;
-            _currentTokenId++;
-            if (request.RequestType == SecurityTokenRequestType.Issue)
-            {
-                _responseTokenId = _currentTokenId;
-            }
-            _tokenExpires = now.AddMilliseconds(lifetime * 1.25);
-        }
-        var response = new OpenSecureChannelResponse
-        {
-            ResponseHeader = new ResponseHeader { Timestamp = now, RequestHandle = request.RequestHeader.RequestHandle },
-            ServerProtocolVersion = 0,
-            SecurityToken = new ChannelSecurityToken { ChannelId = _channelId, TokenId = _currentTokenId, CreatedAt = now, RevisedLifetime = lifetime },
-            ServerNonce = [],
-        };
-        var responseBody = EncodeBody(response);
-        var writer = new UaBinaryWriter(responseBody.Length + 128);
-        var placeholder = writer.GetSpan(HeaderSize);
-        placeholder.Clear();
-        writer.WriteUInt32(_channelId);
-        writer.WriteString(NonePolicyUri);
-        writer.WriteByteString(null);
-        writer.WriteByteString(null);
-        lock (_sendLock)
-        {
-            writer.WriteUInt32(NextSendSequence());
-            writer.WriteUInt32(requestId);
-            responseBody.CopyTo(writer.GetSpan(responseBody.Length));
-            var message = writer.ToArray();
-            WriteHeader(message, "OPN", (byte)'F');
-            _outgoing.Writer.TryWrite(message);
-        }
-    }
-
-    private (uint TokenId, uint Sequence, uint RequestId) CheckSymmetricHeader(byte[] body)
-    {
-        if (body.Length < 16)
-        {
-            throw new ProtocolViolation(StatusCodes.BadDecodingError, $"a {body.Length + HeaderSize}-byte chunk is too small for the symmetric headers");
-        }
-        var channelId = BinaryPrimitives.ReadUInt32LittleEndian(body);
-        var tokenId = BinaryPrimitives.ReadUInt32LittleEndian(body.AsSpan(4));
-        var sequence = BinaryPrimitives.ReadUInt32LittleEndian(body.AsSpan(8));
-        var requestId = BinaryPrimitives.ReadUInt32LittleEndian(body.AsSpan(12));
-        if (_channelId == 0 || channelId != _channelId)
-        {
-            throw new ProtocolViolation(StatusCodes.BadTcpSecureChannelUnknown, $"secure channel {channelId} is unknown");
-        }
+        var tokenId = ++_lastTokenId;
+        _tokens.Add(tokenId, TimeSpan.FromMilliseconds(lifetime));
         var now = _engine.Now;
-        if (tokenId == _currentTokenId)
+        lock (_sendLock)
         {
-            _responseTokenId = _currentTokenId;
-        }
-        else if (!(tokenId == _previousTokenId && tokenId != 0 && now <= _previousTokenExpires))
-        {
-            throw new ProtocolViolation(StatusCodes.BadSecureChannelTokenUnknown, $"token {tokenId} is not valid on secure channel {_channelId}");
-        }
-        CheckSequence(sequence);
-        return (tokenId, sequence, requestId);
-    }
-
-    private void CheckSequence(uint sequence)
-    {
-        if (_hasReceivedSequence)
-        {
-            var expected = unchecked(_lastReceivedSequence + 1);
-            // Legacy (RSA and None) numbering wraps after 4 294 966 271 to a value below 1024 (OPC 10000-6 §6.7.2.4).
-            var wrapped = _lastReceivedSequence >= 4_294_966_271u && sequence < 1024;
-            if (sequence != expected && !wrapped)
+            if (issue)
             {
-                throw new ProtocolViolation(StatusCodes.BadSequenceNumberInvalid, $"sequence number {sequence} does not follow {_lastReceivedSequence}");
+                _codec.ChannelId = _engine.NextChannelId();
+                // A renewed token is used for responses only once the client has used it (digest §1.12).
+                _codec.SendTokenId = tokenId;
+            }
+            var response = new OpenSecureChannelResponse
+            {
+                ResponseHeader = new ResponseHeader { Timestamp = now, RequestHandle = request.RequestHeader.RequestHandle },
+                ServerProtocolVersion = 0,
+                SecurityToken = new ChannelSecurityToken { ChannelId = _codec.ChannelId, TokenId = tokenId, CreatedAt = now, RevisedLifetime = lifetime },
+                ServerNonce = [],
+            };
+            foreach (var chunk in _codec.EncodeChunks(TcpMessageType.OpenSecureChannel, message.RequestId, MessageCodec.Encode(response), StatusCodes.BadResponseTooLarge))
+            {
+                _outgoing.Writer.TryWrite(chunk);
             }
         }
-        _hasReceivedSequence = true;
-        _lastReceivedSequence = sequence;
     }
 
-    private void OnMessageChunk(byte[] body, byte chunkType)
+    private void RequireChannel(TcpFrame frame)
     {
-        var (_, _, requestId) = CheckSymmetricHeader(body);
-        if (chunkType == (byte)'A')
+        if (_codec.ChannelId == 0)
         {
-            _partialChunks.Clear();
-            _partialBytes = 0;
-            return;
+            var channelId = frame.Length >= TcpMessageType.HeaderSize + 4 ? BinaryPrimitives.ReadUInt32LittleEndian(frame.Buffer.AsSpan(TcpMessageType.HeaderSize)) : 0;
+            throw new UaDecodingException(StatusCodes.BadTcpSecureChannelUnknown, $"secure channel {channelId} is unknown");
         }
-        if (_partialChunks.Count > 0 && requestId != _partialRequestId)
+    }
+
+    private void OnMessageChunk(TcpFrame frame)
+    {
+        RequireChannel(frame);
+        var message = _codec.AddChunk(frame);
+        // Secure every response with the newest token the client has used (digest §1.12).
+        var tokenId = BinaryPrimitives.ReadUInt32LittleEndian(frame.Buffer.AsSpan(TcpMessageType.HeaderSize + 4));
+        if (tokenId == _tokens.CurrentTokenId)
         {
-            throw new ProtocolViolation(StatusCodes.BadTcpMessageTypeInvalid, $"chunk of request {requestId} interleaved with request {_partialRequestId}");
-        }
-        var payloadLength = body.Length - 16;
-        if (_partialChunks.Count + 1 > _limits.MaxChunkCount)
-        {
-            throw new ProtocolViolation(StatusCodes.BadTcpMessageTooLarge, $"request {requestId} exceeds {_limits.MaxChunkCount} chunks");
-        }
-        if ((long)_partialBytes + payloadLength > _limits.MaxMessageSize)
-        {
-            throw new ProtocolViolation(StatusCodes.BadTcpMessageTooLarge, $"request {requestId} exceeds the message size limit of {_limits.MaxMessageSize} bytes");
-        }
-        _partialRequestId = requestId;
-        if (chunkType == (byte)'C')
-        {
-            _partialChunks.Add(body);
-            _partialBytes += payloadLength;
-            return;
-        }
-        byte[] message;
-        if (_partialChunks.Count == 0)
-        {
-            message = body;
-        }
-        else
-        {
-            _partialChunks.Add(body);
-            message = new byte[_partialBytes + payloadLength + 16];
-            var at = 16;
-            foreach (var chunk in _partialChunks)
+            lock (_sendLock)
             {
-                chunk.AsSpan(16).CopyTo(message.AsSpan(at));
-                at += chunk.Length - 16;
+                _codec.SendTokenId = tokenId;
             }
-            _partialChunks.Clear();
-            _partialBytes = 0;
         }
-        DispatchMessage(message, requestId);
+        if (message is null || frame.ChunkType == TcpMessageType.Abort)
+        {
+            // An intermediate chunk, or the client aborted the message: nothing to answer.
+            return;
+        }
+        if (!message.IsGood)
+        {
+            throw new UaDecodingException(message.Status, message.Reason ?? "the request exceeds the server's limits");
+        }
+        DispatchMessage(message);
     }
 
-    private void DispatchMessage(byte[] message, uint requestId)
+    private void DispatchMessage(ReceivedMessage message)
     {
+        var requestId = message.RequestId;
         IServiceRequest request;
         try
         {
-            var reader = new UaBinaryReader(message, 16, message.Length - 16, _limits.Encoding);
+            var reader = new UaBinaryReader(message.Body, _limits.Encoding);
             var typeId = reader.ReadNodeId();
             if (typeId.NamespaceIndex != 0 || typeId.IdType != NodeIdType.Numeric ||
                 !EncodeableTypes.TryCreate(typeId.NumericIdentifier, out var encodeable) || encodeable is not IServiceRequest serviceRequest)
@@ -547,50 +417,6 @@ internal sealed class ServerConnection
         }
     }
 
-    private async Task<bool> ReadExactlyOrEndAsync(byte[] buffer, CancellationToken ct)
-    {
-        var read = 0;
-        while (read < buffer.Length)
-        {
-            var n = await _stream.ReadAsync(buffer.AsMemory(read), ct).ConfigureAwait(false);
-            if (n == 0)
-            {
-                return false;
-            }
-            read += n;
-        }
-        return true;
-    }
-
-    private uint NextSendSequence()
-    {
-        _sendSequence = _sendSequence >= 4_294_966_271u ? 1 : _sendSequence + 1;
-        return _sendSequence;
-    }
-
-    private static byte[] EncodeBody(IEncodeable value)
-    {
-        var writer = new UaBinaryWriter(256);
-        writer.WriteNodeId(new NodeId(value.BinaryEncodingId));
-        value.Encode(writer);
-        return writer.ToArray();
-    }
-
-    private static void WriteHeader(byte[] message, string type, byte chunkType)
-    {
-        message[0] = (byte)type[0];
-        message[1] = (byte)type[1];
-        message[2] = (byte)type[2];
-        message[3] = chunkType;
-        BinaryPrimitives.WriteUInt32LittleEndian(message.AsSpan(4), (uint)message.Length);
-    }
-
-    private static string Printable(byte[] header) =>
-        new([.. header.Take(4).Select(b => b is >= 32 and < 127 ? (char)b : '?')]);
-
-    /// <summary>A channel-level failure: answered with ERR and the socket is closed.</summary>
-    private sealed class ProtocolViolation(StatusCode status, string message) : Exception(message)
-    {
-        public StatusCode Status { get; } = status;
-    }
+    private static bool IsNamedHelloStatus(StatusCode status) =>
+        status == StatusCodes.BadConnectionRejected || status == StatusCodes.BadTcpEndpointUrlInvalid;
 }

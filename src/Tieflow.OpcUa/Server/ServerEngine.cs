@@ -39,6 +39,9 @@ internal sealed partial class ServerEngine : IDisposable
 
     public DateTime Now => _time.GetUtcNow().UtcDateTime;
 
+    /// <summary>The server's clock (token lifetimes of the connections).</summary>
+    public TimeProvider Time => _time;
+
     public ServerState State
     {
         get
@@ -297,7 +300,7 @@ internal sealed partial class ServerEngine : IDisposable
         }
         foreach (var connection in connections)
         {
-            connection.CheckExpiry(Now);
+            connection.CheckExpiry();
         }
     }
 

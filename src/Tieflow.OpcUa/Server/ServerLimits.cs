@@ -1,17 +1,13 @@
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Server;
 
 /// <summary>Transport and decoder limits of the server (project OPC UA digest §3).</summary>
 internal sealed class ServerLimits
 {
-    public int ReceiveBufferSize { get; init; } = 65536;
-
-    public int SendBufferSize { get; init; } = 65536;
-
-    public int MaxMessageSize { get; init; } = 16 * 1024 * 1024;
-
-    public int MaxChunkCount { get; init; } = 256;
+    /// <summary>Buffer sizes, MaxMessageSize and MaxChunkCount announced in the Acknowledge and enforced on receipt.</summary>
+    public TransportLimits Transport { get; init; } = TransportLimits.Default;
 
     public EncodingLimits Encoding { get; init; } = EncodingLimits.Default;
 }

@@ -1,6 +1,7 @@
 using System.Net;
 using System.Net.Sockets;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Server;
 
@@ -37,10 +38,13 @@ public sealed class UaServer : IAsyncDisposable
         Validate(_options);
         _limits = new ServerLimits
         {
-            ReceiveBufferSize = _options.BufferSize,
-            SendBufferSize = _options.BufferSize,
-            MaxMessageSize = _options.MaxMessageSize,
-            MaxChunkCount = _options.MaxChunkCount,
+            Transport = new TransportLimits
+            {
+                ReceiveBufferSize = _options.BufferSize,
+                SendBufferSize = _options.BufferSize,
+                MaxMessageSize = _options.MaxMessageSize,
+                MaxChunkCount = _options.MaxChunkCount,
+            },
             Encoding = new EncodingLimits { MaxMessageSize = _options.MaxMessageSize },
         };
         _engine = new ServerEngine(new ServerEngineSettings

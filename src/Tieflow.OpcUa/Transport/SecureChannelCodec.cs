@@ -55,6 +55,13 @@ internal sealed class SecureChannelCodec
     /// <summary>Decides whether a received token id may be used (current token, or an old one within 125 % of its lifetime).</summary>
     public Func<uint, bool> IsTokenAccepted { get; set; } = _ => true;
 
+    /// <summary>
+    /// Whether chunks of different messages may arrive interleaved (default true, up to 16 messages at once). A server
+    /// sets false: a chunk of another request while one is being reassembled is then BadTcpMessageTypeInvalid, which
+    /// bounds what a peer can make it hold to one MaxMessageSize.
+    /// </summary>
+    public bool InterleavedMessagesAllowed { get; init; } = true;
+
     /// <summary>Status for an incoming message over a local limit: BadResponseTooLarge on a client, BadRequestTooLarge on a server.</summary>
     public StatusCode ReceiveTooLargeStatus { get; set; } = StatusCodes.BadResponseTooLarge;
 
@@ -209,6 +216,11 @@ internal sealed class SecureChannelCodec
 
         if (!_partials.TryGetValue(requestId, out var partial))
         {
+            if (!InterleavedMessagesAllowed && _partials.Count > 0)
+            {
+                throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, $"Chunk of request {requestId} interleaved with request {_partials.Keys.First()}");
+            }
+
             if (final)
             {
                 if (bodyLength > _local.MaxMessageSize)

@@ -9,6 +9,7 @@ internal sealed class SecurityTokenSet
     private readonly TimeProvider _time;
     private readonly List<(uint TokenId, long Expires)> _tokens = [];
     private readonly Lock _lock = new();
+    private long _currentExpires = long.MaxValue;
 
     public SecurityTokenSet(TimeProvider time) => _time = time;
 
@@ -22,9 +23,19 @@ internal sealed class SecurityTokenSet
         {
             var now = _time.GetTimestamp();
             _tokens.RemoveAll(t => t.Expires < now);
-            _tokens.Add((tokenId, now + (long)(lifetime.TotalSeconds * 1.25 * _time.TimestampFrequency)));
+            _currentExpires = now + (long)(lifetime.TotalSeconds * 1.25 * _time.TimestampFrequency);
+            _tokens.Add((tokenId, _currentExpires));
             CurrentTokenId = tokenId;
             CurrentLifetime = lifetime;
+        }
+    }
+
+    /// <summary>True when the newest token has lived past 125 % of its lifetime (it was not renewed in time); false before the first token.</summary>
+    public bool IsCurrentExpired()
+    {
+        lock (_lock)
+        {
+            return _time.GetTimestamp() > _currentExpires;
         }
     }
 

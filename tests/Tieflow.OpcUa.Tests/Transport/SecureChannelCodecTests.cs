@@ -176,4 +176,29 @@ public sealed class SecureChannelCodecTests
 
         Assert.Equal(2u, sender.LastSentSequenceNumber);
     }
+
+    [Theory]
+    [InlineData(true)]
+    [InlineData(false)]
+    public void AddChunk_SecondRequestWhileOneIsReassembled_RefusedOnlyWhenInterleavingIsOff(bool allowed)
+    {
+        var sender = new SecureChannelCodec(TransportLimits.Default) { PeerReceiveBufferSize = 8192 };
+        var receiver = new SecureChannelCodec(TransportLimits.Default) { InterleavedMessagesAllowed = allowed };
+        var first = sender.EncodeChunks(TcpMessageType.Message, 1, Body(10000), StatusCodes.BadRequestTooLarge);
+        // The second message's chunk follows the first chunk of the first in sequence (number 2).
+        var interleaving = new SecureChannelCodec(TransportLimits.Default) { PeerReceiveBufferSize = 8192 };
+        interleaving.SetLastSentSequenceNumber(1);
+        var second = interleaving.EncodeChunks(TcpMessageType.Message, 2, Body(100), StatusCodes.BadRequestTooLarge)[0];
+        Assert.Null(receiver.AddChunk(Frame(first[0])));
+
+        if (allowed)
+        {
+            Assert.Equal(2u, receiver.AddChunk(Frame(second))!.RequestId);
+        }
+        else
+        {
+            var ex = Assert.Throws<UaDecodingException>(() => receiver.AddChunk(Frame(second)));
+            Assert.Equal(StatusCodes.BadTcpMessageTypeInvalid, ex.Status);
+        }
+    }
 }

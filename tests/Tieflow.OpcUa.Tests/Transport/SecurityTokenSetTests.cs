@@ -37,4 +37,22 @@ public sealed class SecurityTokenSetTests
         Assert.True(tokens.IsAccepted(1));
         Assert.Equal(3u, tokens.CurrentTokenId);
     }
+
+    [Fact]
+    public void IsCurrentExpired_NotRenewed_TrueOnlyAfterLifetimePlus25Percent()
+    {
+        // Digest §1.12: a token lives until 125 % of its lifetime; the server closes a channel not renewed by then.
+        var time = new FakeTimeProvider(new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero));
+        var tokens = new SecurityTokenSet(time);
+        Assert.False(tokens.IsCurrentExpired());
+        tokens.Add(1, TimeSpan.FromSeconds(60));
+        time.Advance(TimeSpan.FromSeconds(74.9));
+        Assert.False(tokens.IsCurrentExpired());
+        time.Advance(TimeSpan.FromSeconds(0.2));
+        Assert.True(tokens.IsCurrentExpired());
+
+        // A renewal starts a new lifetime.
+        tokens.Add(2, TimeSpan.FromSeconds(60));
+        Assert.False(tokens.IsCurrentExpired());
+    }
 }

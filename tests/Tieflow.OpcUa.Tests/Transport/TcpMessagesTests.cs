@@ -38,6 +38,33 @@ public sealed class TcpMessagesTests
         Assert.Equal(StatusCodes.BadTcpEndpointUrlInvalid, ex.Status);
     }
 
+    [Theory]
+    [InlineData(65536u, 65536u, 65536u, 65536u)] // digest §1.2 golden exchange: 64 KiB both ways
+    [InlineData(8192u, 655360u, 65536u, 8192u)]  // the server may only lower sizes (OPC 10000-6 §7.1.2.4)
+    [InlineData(655360u, 8192u, 8192u, 65536u)]
+    public void Accept_Hello_BuffersAreTheSmallerOfPeerAndLocal(uint helloReceive, uint helloSend, uint ackReceive, uint ackSend)
+    {
+        var hello = new TcpHello(0, helloReceive, helloSend, 0, 0, "opc.tcp://h/");
+
+        var ack = TcpAcknowledge.Accept(hello, TransportLimits.Default);
+
+        // Our receive buffer bounds what the peer sends, our send buffer what it receives.
+        Assert.Equal(new TcpAcknowledge(0, ackReceive, ackSend, 16 * 1024 * 1024, 256), ack);
+    }
+
+    [Theory]
+    [InlineData(1024u, 65536u)]
+    [InlineData(65536u, 8191u)]
+    public void Accept_BufferBelow8192_BadConnectionRejected(uint helloReceive, uint helloSend)
+    {
+        // OPC 10000-6 §7.1.2.3: at least 8192 bytes; node-opcua answers Bad_ConnectionRejected (digest §3).
+        var hello = new TcpHello(0, helloReceive, helloSend, 0, 0, "opc.tcp://h/");
+
+        var ex = Assert.Throws<UaDecodingException>(() => TcpAcknowledge.Accept(hello, TransportLimits.Default));
+
+        Assert.Equal(StatusCodes.BadConnectionRejected, ex.Status);
+    }
+
     [Fact]
     public void Encode_Error_RoundTrips()
     {
