@@ -421,6 +421,9 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
     {
         await CloseAsync().ConfigureAwait(false);
         _stop.Dispose();
-        _sendLock.Dispose();
+
+        // _sendLock is deliberately not disposed: a send racing the close may still be between WaitAsync and Release,
+        // and Release on a disposed semaphore throws. A SemaphoreSlim whose wait handle is never used holds nothing
+        // that needs disposing.
     }
 }
