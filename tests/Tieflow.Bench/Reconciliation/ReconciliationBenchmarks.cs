@@ -1,5 +1,6 @@
 using BenchmarkDotNet.Attributes;
 using Tieflow.Core.Reconciliation;
+using Tieflow.Core.Tests.Reconciliation;
 
 namespace Tieflow.Bench.Reconciliation;
 
@@ -26,13 +27,13 @@ public class ReconciliationBenchmarks
     public void Setup()
     {
         var random = new Random(42);
-        ProcessNetwork train = BenchNetworks.SixStageTrain();
-        double[] truth = BenchNetworks.SixStageTrainState();
+        ProcessNetwork train = TestNetworks.SixStageTrain();
+        double[] truth = TestNetworks.SixStageTrainState();
         var template = new List<Measurement>();
         for (int v = 0; v < train.QuantityCount; v++)
         {
             QuantityKey key = train.KeyAt(v);
-            if (BenchNetworks.IsMeasuredInTrain(key))
+            if (TestNetworks.IsMeasuredInTrain(key))
             {
                 template.Add(new Measurement(key, truth[v], key.Quantity == MeasuredQuantity.Flow ? 0.01 * truth[v] : 0.002));
             }
@@ -44,21 +45,21 @@ public class ReconciliationBenchmarks
         _trainMeasurements = new List<Measurement>[Sets];
         for (int s = 0; s < Sets; s++)
         {
-            _trainReadings[s] = [.. template.Select(m => Math.Clamp(m.Value + (m.Sigma * BenchNetworks.Gaussian(random)), 0, m.Key.Quantity == MeasuredQuantity.Flow ? double.MaxValue : 1))];
+            _trainReadings[s] = [.. template.Select(m => Math.Clamp(m.Value + (m.Sigma * TestNetworks.Gaussian(random)), 0, m.Key.Quantity == MeasuredQuantity.Flow ? double.MaxValue : 1))];
             double[] readings = _trainReadings[s];
             _trainMeasurements[s] = [.. template.Select((m, i) => m with { Value = readings[i] })];
         }
 
         // 28 streams, 22 measured (six internal streams unmeasured), sigma 2 % of the flow.
-        _flowNetwork = BenchNetworks.ElevenNodeNetwork();
-        double[] flows = BenchNetworks.ConsistentFlows(_flowNetwork, random);
+        _flowNetwork = TestNetworks.ElevenNodeNetwork();
+        double[] flows = TestNetworks.ConsistentFlows(_flowNetwork, random);
         string[] unmeasured = ["C3", "C7", "B2", "B5", "B8", "R9"];
         var measured = _flowNetwork.Streams.Select((s, i) => (s.Id, i)).Where(p => !unmeasured.Contains(p.Id)).ToList();
         _flowMeasurements = new List<Measurement>[Sets];
         _flowReadings = new double[Sets][];
         for (int s = 0; s < Sets; s++)
         {
-            _flowMeasurements[s] = [.. measured.Select(p => Measurement.Flow(p.Id, flows[p.i] + (0.02 * flows[p.i] * BenchNetworks.Gaussian(random)), 0.02 * flows[p.i]))];
+            _flowMeasurements[s] = [.. measured.Select(p => Measurement.Flow(p.Id, flows[p.i] + (0.02 * flows[p.i] * TestNetworks.Gaussian(random)), 0.02 * flows[p.i]))];
             _flowReadings[s] = [.. _flowMeasurements[s].Select(m => m.Value)];
         }
 
