@@ -23,6 +23,26 @@ internal static class ActivityAssertions
         return worst;
     }
 
+    /// <summary>
+    /// A cold-start split of <paramref name="overall"/> is sound: a one-phase answer only where the stability test agrees;
+    /// otherwise isoactive to 1e-9, balanced to 1e-12, not the trivial solution, roles kept and the phase share in [0, 1].
+    /// </summary>
+    public static void SplitIsSound(ActivityCoefficientModel model, Ternary overall, double temperatureKelvin)
+    {
+        PhaseSplit split = model.Split(overall, temperatureKelvin);
+        if (!split.IsTwoPhase)
+        {
+            Assert.True(model.TestStability(overall, temperatureKelvin).IsStable, $"{overall} one phase but unstable");
+            return;
+        }
+
+        Assert.True(IsoactivityResidual(model, split.TieLine, temperatureKelvin) < 1e-9);
+        Assert.True(BalanceResidual(split, overall) < 1e-12);
+        Assert.True(Ternary.MaxDifference(split.Raffinate, split.Extract) > 1e-4, "trivial solution returned as two phases");
+        Assert.True(split.Raffinate.Diluent > split.Extract.Diluent);
+        Assert.InRange(split.ExtractFraction, 0, 1);
+    }
+
     /// <summary>Largest component difference between the overall composition and the phases recombined, on the system's basis.</summary>
     public static double BalanceResidual(PhaseSplit split, Ternary overall)
     {
