@@ -1,6 +1,6 @@
 using Spectre.Console;
 using Tieflow.Core.Cascade;
-using Tieflow.Service.Input;
+using Tieflow.Files;
 using Tieflow.Service.Output;
 
 namespace Tieflow.Service.Cli;
@@ -12,7 +12,7 @@ internal static class CascadeHandler
     {
         CascadeCase c = CaseReader.LoadCascade(casePath);
         var solver = new CascadeSolver(c.System.Model, c.TemperatureKelvin);
-        CascadeResult result = solver.Solve(Arrangement(c.Arrangement), c.Feed, c.Solvent, c.Efficiencies);
+        CascadeResult result = solver.Solve(c.Arrangement, c.Feed, c.Solvent, c.Efficiencies);
         if (json)
         {
             JsonOutput.Print(context.Output, w =>
@@ -22,12 +22,9 @@ internal static class CascadeHandler
             return ExitCodes.Success;
         }
 
-        context.Console.WriteLine($"{(c.Arrangement == CascadeKind.CrossCurrent ? "Cross-current" : "Counter-current")} cascade of {c.Stages} stage(s) at {c.TemperatureKelvin:0.##} K, system '{c.System.Name}'");
+        context.Console.WriteLine($"{(c.Arrangement == CascadeArrangement.Crosscurrent ? "Cross-current" : "Counter-current")} cascade of {c.Stages} stage(s) at {c.TemperatureKelvin:0.##} K, system '{c.System.Name}'");
         CascadeOutput.WriteTable(context.Console, result, c.System.System);
         TextOutput.WriteNotice(context.Console);
         return ExitCodes.Success;
     }
-
-    public static CascadeArrangement Arrangement(CascadeKind kind) =>
-        kind == CascadeKind.CrossCurrent ? CascadeArrangement.Crosscurrent : CascadeArrangement.Countercurrent;
 }

@@ -1,6 +1,6 @@
 using System.CommandLine;
 using System.Text.Json;
-using Tieflow.Service.Input;
+using Tieflow.Files;
 
 namespace Tieflow.Service.Cli;
 

@@ -1,7 +1,7 @@
 using Tieflow.Core.Cascade;
 using Tieflow.Core.Equilibrium;
 using Tieflow.Core.Reconciliation;
-using Tieflow.Service.Input;
+using Tieflow.Files;
 
 namespace Tieflow.Service.Cli;
 

@@ -1,6 +1,6 @@
 using Spectre.Console;
 using Tieflow.Core.Cascade;
-using Tieflow.Service.Input;
+using Tieflow.Files;
 using Tieflow.Service.Output;
 
 namespace Tieflow.Service.Cli;
@@ -12,13 +12,13 @@ internal static class DesignHandler
     {
         DesignCase d = CaseReader.LoadDesign(casePath);
         CascadeCase c = d.Cascade;
-        if (c.Arrangement != CascadeKind.CounterCurrent)
+        if (c.Arrangement != CascadeArrangement.Countercurrent)
         {
             throw new InputException(casePath, "$.arrangement", "design calculations are for counter-current cascades; use \"countercurrent\" (solve a cross-current cascade with 'tieflow calc cascade')");
         }
 
         var design = new CascadeDesign(c.System.Model, c.TemperatureKelvin);
-        DesignTarget target = d.Target.RaffinateFraction is double x ? DesignTarget.RaffinateFraction(x) : DesignTarget.Recovery(d.Target.Recovery!.Value);
+        DesignTarget target = d.Target;
         string unit = c.System.System.Basis == Core.Chemistry.CompositionBasis.Mass ? "kg/h" : "kmol/h";
 
         if (d.Find == DesignGoal.MinimumSolvent)

@@ -2,7 +2,7 @@ using System.Globalization;
 using System.Text.Json;
 using Spectre.Console;
 using Tieflow.Core.Reconciliation;
-using Tieflow.Service.Input;
+using Tieflow.Files;
 using Tieflow.Service.Output;
 
 namespace Tieflow.Service.Cli;

@@ -1,7 +1,7 @@
 using Spectre.Console;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
-using Tieflow.Service.Input;
+using Tieflow.Files;
 using Tieflow.Service.Output;
 
 namespace Tieflow.Service.Cli;

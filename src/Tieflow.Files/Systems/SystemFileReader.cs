@@ -4,13 +4,13 @@ using Tieflow.Core.Equilibrium;
 using Tieflow.Core.Equilibrium.Activity;
 using Tieflow.Core.Equilibrium.Distribution;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>
 /// Reads system files (components and equilibrium, CONTRACTS.md) strictly: every problem is collected with its file
 /// and JSON path. Temperatures are kelvin; compositions are on the file's basis.
 /// </summary>
-internal static class SystemFileReader
+public static class SystemFileReader
 {
     /// <summary>Default temperatures for activity-model parameters when the file gives no <c>temperatureRange</c>.</summary>
     public static readonly TemperatureRange DefaultActivityRange = new(250, 450);

@@ -4,10 +4,10 @@ using Tieflow.Core.Equilibrium.Activity;
 using Tieflow.Core.Equilibrium.Distribution;
 using Tieflow.Core.Equilibrium.TieLines;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>Builds the equilibrium model of a validated system file.</summary>
-internal static class EquilibriumModelFactory
+public static class EquilibriumModelFactory
 {
     /// <exception cref="ArgumentException">When the model refuses the data (the message says why).</exception>
     public static IPhaseEquilibrium Create(TernarySystem system, EquilibriumSpec spec) => spec switch

@@ -1,10 +1,10 @@
 using System.Text.Json;
 using Tieflow.Core.Reconciliation;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>Reads reconcile case files (CONTRACTS.md) strictly, collecting every problem with its file and JSON path.</summary>
-internal static class ReconcileCaseReader
+public static class ReconcileCaseReader
 {
     public static ReconcileCase Load(string path)
     {

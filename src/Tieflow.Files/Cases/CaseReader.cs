@@ -1,11 +1,12 @@
 using System.Text.Json;
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>Reads split, cascade and design case files (CONTRACTS.md) strictly, collecting every problem with its file and JSON path.</summary>
-internal static class CaseReader
+public static class CaseReader
 {
     private static readonly string[] CascadeKeys = ["system", "temperature", "arrangement", "stages", "feed", "solvent", "efficiency"];
 
@@ -57,7 +58,7 @@ internal static class CaseReader
         string? findText = o.Get("find")?.AsChoice("stages", "solvent", "minimum-solvent");
         DesignGoal find = findText switch { "solvent" => DesignGoal.Solvent, "minimum-solvent" => DesignGoal.MinimumSolvent, _ => DesignGoal.Stages };
         CascadeCase? cascade = ReadCascadeFields(o, stagesRequired: find == DesignGoal.Solvent, solventFlowRequired: find == DesignGoal.Stages);
-        DesignTargetSpec? target = null;
+        DesignTarget? target = null;
         if (o.Get("target", required: find != DesignGoal.MinimumSolvent) is { } tv && tv.AsObject("raffinateFraction", "recovery") is { } t)
         {
             bool hasFraction = t.Has("raffinateFraction"), hasRecovery = t.Has("recovery");
@@ -73,8 +74,14 @@ internal static class CaseReader
                 {
                     t.Fail("recovery", "a recovery of 1 needs infinitely many stages; expected a value below 1");
                 }
-
-                target = new DesignTargetSpec(fraction, recovery);
+                else if (fraction is > 0 and < 1)
+                {
+                    target = DesignTarget.RaffinateFraction(fraction.Value);
+                }
+                else if (recovery is > 0 and < 1)
+                {
+                    target = DesignTarget.Recovery(recovery.Value);
+                }
             }
         }
         else if (find == DesignGoal.MinimumSolvent && !o.Has("target"))
@@ -82,12 +89,12 @@ internal static class CaseReader
             o.Fail("target", "minimum-solvent needs a target: the minimum solvent flow is the one that reaches it with infinitely many stages");
         }
 
-        if (cascade is not null && target?.RaffinateFraction is double x && x >= cascade.Feed.Composition.Solute)
+        if (cascade is not null && target is { Kind: DesignTargetKind.RaffinateFraction, Value: var x } && x >= cascade.Feed.Composition.Solute)
         {
             o.Fail("target.raffinateFraction", $"the target {x:G4} is not below the feed's solute fraction {cascade.Feed.Composition.Solute:G4}; nothing would need extracting");
         }
 
-        return cascade is null || target is null || o.Problems.Any ? null : new DesignCase(cascade, find, target);
+        return cascade is null || target is null || o.Problems.Any ? null : new DesignCase(cascade, find, target.Value);
     }
 
     /// <summary>Reads a stream object <c>{ "flow", "composition" }</c> on the system's basis.</summary>
@@ -152,7 +159,7 @@ internal static class CaseReader
             return null;
         }
 
-        var kind = arrangement == "crosscurrent" ? CascadeKind.CrossCurrent : CascadeKind.CounterCurrent;
+        var kind = arrangement == "crosscurrent" ? CascadeArrangement.Crosscurrent : CascadeArrangement.Countercurrent;
         return new CascadeCase(o.File, system, t.Value, kind, stages ?? 0, feed.Value, solvent.Value, efficiencies);
     }
 

@@ -1,9 +1,9 @@
 using System.Text.Json;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>Reads a JSON file into a document, turning a missing file or malformed JSON into an <see cref="InputException"/> that names the file and the place.</summary>
-internal static class JsonInputFile
+public static class JsonInputFile
 {
     private static readonly JsonDocumentOptions Options = new() { CommentHandling = JsonCommentHandling.Skip, AllowTrailingCommas = false, MaxDepth = 64 };
 

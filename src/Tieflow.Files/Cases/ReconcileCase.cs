@@ -1,6 +1,6 @@
 using Tieflow.Core.Reconciliation;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>A reconcile case: a process network, its measurements, the significance of the gross-error tests and the iteration limit of the bilinear solver.</summary>
-internal sealed record ReconcileCase(string Path, ProcessNetwork Network, IReadOnlyList<Measurement> Measurements, double Significance, int MaxIterations);
+public sealed record ReconcileCase(string Path, ProcessNetwork Network, IReadOnlyList<Measurement> Measurements, double Significance, int MaxIterations);

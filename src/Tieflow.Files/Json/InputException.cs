@@ -1,7 +1,7 @@
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>Input that cannot be used; carries every problem found, so that a user can mend them all at once. Exit code 2.</summary>
-internal sealed class InputException : Exception
+public sealed class InputException : Exception
 {
     public InputException(IReadOnlyList<InputProblem> problems)
         : base(Describe(problems))

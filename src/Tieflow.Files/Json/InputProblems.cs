@@ -1,7 +1,7 @@
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>Collects the problems of one or more files while they are read, so that all of them are reported together.</summary>
-internal sealed class InputProblems
+public sealed class InputProblems
 {
     private readonly List<InputProblem> _items = [];
 

@@ -1,10 +1,10 @@
 using System.Text.Json;
 using System.Text.RegularExpressions;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>An object read by <see cref="JsonValue.AsObject"/>: access to members that records a problem when a required member is missing.</summary>
-internal readonly partial struct JsonObject
+public readonly partial struct JsonObject
 {
     private readonly JsonValue _value;
 

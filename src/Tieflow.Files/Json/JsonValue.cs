@@ -1,14 +1,14 @@
 using System.Globalization;
 using System.Text.Json;
 
-namespace Tieflow.Service.Input;
+namespace Tieflow.Files;
 
 /// <summary>
 /// A JSON value with its file and path, read strictly: each accessor checks the kind and range and records a problem
 /// naming the file, the path and what was expected instead of throwing, so that one pass finds every problem.
 /// Accessors return null when the value is missing or wrong.
 /// </summary>
-internal readonly struct JsonValue
+public readonly struct JsonValue
 {
     public JsonValue(JsonElement element, string file, string path, InputProblems problems)
     {
