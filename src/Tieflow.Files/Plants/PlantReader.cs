@@ -187,7 +187,7 @@ public static partial class PlantReader
     private static IEnumerable<string> AlertKeys() =>
     [
         "efficiencyDriftSigmas", "efficiencyDriftDeadband", "entrainmentFraction", "entrainmentDeadband", "solventLossKgPerHour", "solventLossFraction",
-        "suspectWindows", "labMismatchSigmas", "offSpecMargin", "onDelay", "offDelay", "floodLimit", "floodWindow", "notDeterminableSigma",
+        "suspectWindows", "labMismatchSigmas", "labSigma", "offSpecMargin", "onDelay", "offDelay", "floodLimit", "floodWindow", "notDeterminableSigma", "windowLength",
     ];
 
     private static NominalOperation? ReadNominal(JsonValue value, SystemFile system, int? stages)
