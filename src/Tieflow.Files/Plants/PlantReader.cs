@@ -147,12 +147,19 @@ public static partial class PlantReader
             }
         }
 
-        var alerts = new Dictionary<string, string>(StringComparer.Ordinal);
-        if (o.Get("alerts", required: false) is { } av && av.AsObject([.. AlertKeys()]) is { } ao)
+        var alerts = new Dictionary<string, double>(StringComparer.Ordinal);
+        if (o.Get("alerts", required: false) is { } av && av.AsObject([.. AlertLimits.Keys]) is { } ao)
         {
             foreach ((string key, JsonValue v) in ao.Members())
             {
-                alerts[key] = v.Kind == JsonValueKind.String ? v.Element.GetString()! : v.Element.GetRawText();
+                (double min, double max, string what) = AlertLimits[key];
+                double? x = what == "duration"
+                    ? v.AsDuration(TimeSpan.FromSeconds(min), TimeSpan.FromSeconds(max))?.TotalSeconds
+                    : v.AsNumber(min, max, minExclusive: min == 0, unit: what);
+                if (x is double setting)
+                {
+                    alerts[key] = setting;
+                }
             }
         }
 
@@ -181,14 +188,29 @@ public static partial class PlantReader
     }
 
     /// <summary>
-    /// The alert settings a plant file may override. The analysis documents and validates their values; the names are fixed here
-    /// so that a typo is caught when the file is read.
+    /// The analysis and alert settings a plant file may override, with their ranges (durations in seconds). The analysis
+    /// documents what each one does (see the README); the names and ranges are checked here so that a typo or an absurd
+    /// value is caught when the file is read.
     /// </summary>
-    private static IEnumerable<string> AlertKeys() =>
-    [
-        "efficiencyDriftSigmas", "efficiencyDriftDeadband", "entrainmentFraction", "entrainmentDeadband", "solventLossKgPerHour", "solventLossFraction",
-        "suspectWindows", "labMismatchSigmas", "labSigma", "offSpecMargin", "onDelay", "offDelay", "floodLimit", "floodWindow", "notDeterminableSigma", "windowLength",
-    ];
+    private static readonly Dictionary<string, (double Min, double Max, string What)> AlertLimits = new(StringComparer.Ordinal)
+    {
+        ["efficiencyDriftSigmas"] = (0, 100, "(CUSUM decision limit, in sigmas of the efficiency)"),
+        ["efficiencyDriftDeadband"] = (0, 1, "(drop of efficiency below the baseline that the CUSUM ignores, in sigmas)"),
+        ["entrainmentFraction"] = (0, 0.5, "(carried-over fraction that raises the alert)"),
+        ["entrainmentDeadband"] = (0, 0.5, "(fraction below the set point at which it clears)"),
+        ["solventLossKgPerHour"] = (0, 1e6, "(unaccounted solvent flow that raises the alert, kg/h or kmol/h)"),
+        ["solventLossFraction"] = (0, 1, "(unaccounted solvent as a fraction of the solvent flow that raises the alert)"),
+        ["suspectWindows"] = (0, 1000, "(consecutive windows naming the same tag before it is a suspect)"),
+        ["labMismatchSigmas"] = (0, 100, "(sigmas between lab and soft sensor)"),
+        ["labSigma"] = (0, 0.5, "(standard deviation of a lab result, as a fraction)"),
+        ["offSpecMargin"] = (0, 100, "(sigmas above spec before off-spec)"),
+        ["onDelay"] = (0, 86400 * 7, "duration"),
+        ["offDelay"] = (0, 86400 * 7, "duration"),
+        ["floodLimit"] = (0, 10000, "(alerts per flood window)"),
+        ["floodWindow"] = (1, 86400, "duration"),
+        ["notDeterminableSigma"] = (0, 10, "(efficiency sigma above which a stage is not determinable)"),
+        ["windowLength"] = (60, 86400, "duration"),
+    };
 
     private static NominalOperation? ReadNominal(JsonValue value, SystemFile system, int? stages)
     {
