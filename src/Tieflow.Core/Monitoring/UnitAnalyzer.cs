@@ -63,6 +63,8 @@ public sealed class UnitAnalyzer
     private int _reconciledCount;
     private int _steadyCount;
     private long _closedThrough = long.MinValue;
+    private int _failures;
+    private string? _lastFailure;
 
     /// <summary>The settings in force (defaults with the plant file's overrides).</summary>
     public AnalysisSettings Settings => _settings;
@@ -235,6 +237,8 @@ public sealed class UnitAnalyzer
         Windows = _windowCount,
         Reconciled = _reconciledCount,
         Steady = _steadyCount,
+        Failures = _failures,
+        LastFailure = _lastFailure,
         Stages = [.. Enumerable.Range(0, _unit.Stages).Select(k => (k + 1, _countEfficiency[k] > 0 ? _sumEfficiency[k] / _countEfficiency[k] : double.NaN, _countEfficiency[k] > 0 ? _lastEfficiency[k] : double.NaN))],
         Overall = _overall,
         Alerts = _alerts.Episodes,
@@ -384,7 +388,10 @@ public sealed class UnitAnalyzer
         }
         catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
         {
+            // A window that cannot be reconciled gives no estimates; the failure is kept for the summary and the status.
             rec = null;
+            _failures++;
+            _lastFailure = $"{end:u}: {e.Message}";
         }
 
         if (rec is null)
