@@ -30,7 +30,7 @@ public sealed class UnitAnalyzer
     private readonly WindowReconciler _reconciler;
     private readonly Dictionary<string, SignalChecker> _checkers = new(StringComparer.Ordinal);
     private readonly SortedDictionary<long, Dictionary<string, TagWindow>> _windows = [];
-    private readonly Dictionary<long, HashSet<string>> _windowProblems = [];
+    private readonly Dictionary<long, Dictionary<string, SignalProblem>> _windowProblems = [];
     private readonly Dictionary<string, CaoRhinehartFilter> _steadyFilters = new(StringComparer.Ordinal);
     private readonly Dictionary<string, (long Minute, double Sum, int Count)> _minuteMeans = new(StringComparer.Ordinal);
     private readonly AlertBook _alerts;
@@ -146,14 +146,14 @@ public sealed class UnitAnalyzer
         Instrument instrument = binding.Instrument;
         DateTimeOffset aligned = instrument.DeadTime is { } dead ? sample.Time - dead : sample.Time;
         long w = WindowIndex(aligned);
-        if (state.IsUpdate && state.Problem != SignalProblem.None && w > _closedThrough)
+        if (state.IsUpdate && state.Problem is not (SignalProblem.None or SignalProblem.Spike) && w > _closedThrough)
         {
-            if (!_windowProblems.TryGetValue(w, out HashSet<string>? set))
+            if (!_windowProblems.TryGetValue(w, out Dictionary<string, SignalProblem>? set))
             {
-                _windowProblems[w] = set = new HashSet<string>(StringComparer.Ordinal);
+                _windowProblems[w] = set = new Dictionary<string, SignalProblem>(StringComparer.Ordinal);
             }
 
-            set.Add(sample.Tag);
+            set[sample.Tag] = state.Problem;
         }
 
         if (!state.Used || w <= _closedThrough)
@@ -305,30 +305,33 @@ public sealed class UnitAnalyzer
 
             _closedThrough = next;
             _windows.Remove(next, out Dictionary<string, TagWindow>? tags);
-            _windowProblems.Remove(next, out HashSet<string>? problems);
-            EvaluateWindow(next, tags ?? [], problems ?? [], output);
+            _windowProblems.Remove(next, out Dictionary<string, SignalProblem>? problems);
+            EvaluateWindow(next, tags ?? [], problems ?? new Dictionary<string, SignalProblem>(StringComparer.Ordinal), output);
         }
     }
 
-    private void EvaluateWindow(long index, Dictionary<string, TagWindow> tags, HashSet<string> problemTags, List<MonitorRecord> output)
+    private void EvaluateWindow(long index, Dictionary<string, TagWindow> tags, Dictionary<string, SignalProblem> problems, List<MonitorRecord> output)
     {
         _windowCount++;
         DateTimeOffset start = WindowStart(index), end = WindowStart(index + 1);
+        HashSet<string> problemTags = [];
         foreach ((string tag, SignalChecker checker) in _checkers)
         {
-            if (checker.Advance(end + _lag) != SignalProblem.None)
+            SignalProblem now = checker.Advance(end + _lag);
+            if (now != SignalProblem.None)
             {
-                problemTags.Add(tag);
+                problems[tag] = now;
             }
         }
+
+        problemTags.UnionWith(problems.Keys);
 
         // Signal quality, one alert per failed tag; a failed tag is left out of the window.
         foreach ((string tag, SignalChecker checker) in _checkers)
         {
-            bool failed = problemTags.Contains(tag);
-            SignalProblem problem = checker.Problem;
+            bool failed = problems.TryGetValue(tag, out SignalProblem problem);
             _alerts.Update(end, new AlertKey("signal-quality", null, tag), failed, AlertSeverity.Medium,
-                failed ? checker.Describe(problem == SignalProblem.None ? SignalProblem.BadQuality : problem) : string.Empty,
+                failed ? checker.Describe(problem) : string.Empty,
                 new Dictionary<string, double> { ["problem"] = (double)problem, ["windowSeconds"] = _settings.WindowLength.TotalSeconds }, output, TimeSpan.Zero);
         }
 
