@@ -34,6 +34,7 @@ public sealed class UnitAnalyzer
     private readonly Dictionary<string, CaoRhinehartFilter> _steadyFilters = new(StringComparer.Ordinal);
     private readonly Dictionary<string, (long Minute, double Sum, int Count)> _minuteMeans = new(StringComparer.Ordinal);
     private readonly AlertBook _alerts;
+    private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -355,7 +356,7 @@ public sealed class UnitAnalyzer
         }
 
         double temperature = StageTemperatures(tags, problemTags, out double?[] stageTemperatures);
-        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady);
+        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady) && AnalyzersSettled(measurements);
         if (steady)
         {
             _steadyCount++;
@@ -489,6 +490,40 @@ public sealed class UnitAnalyzer
                 new Dictionary<string, double> { ["value"] = _softLast, ["sigma"] = sigma, ["spec"] = _unit.RaffinateSoluteSpec },
                 output);
         }
+    }
+
+    /// <summary>
+    /// The second half of the steady-state gate: the hold-ups of a mixer-settler train settle over hours, slower than the
+    /// Cao-Rhinehart filter on the key signals can see within one window, so every analyzer's window mean must also agree
+    /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
+    /// accumulate solute is biased.
+    /// </summary>
+    private bool AnalyzersSettled(List<WindowMeasurement> measurements)
+    {
+        bool settled = true;
+        var seen = new HashSet<string>(StringComparer.Ordinal);
+        foreach (WindowMeasurement m in measurements)
+        {
+            if (!_model.Binding(m.Tag)!.Instrument.IsAnalyzer)
+            {
+                continue;
+            }
+
+            seen.Add(m.Tag);
+            if (!_previousMeans.TryGetValue(m.Tag, out WindowMeasurement? p) || Math.Abs(m.Value - p.Value) > 3 * Math.Sqrt((m.Sigma * m.Sigma) + (p.Sigma * p.Sigma)))
+            {
+                settled = false;
+            }
+
+            _previousMeans[m.Tag] = m;
+        }
+
+        foreach (string tag in _previousMeans.Keys.Where(t => !seen.Contains(t)).ToList())
+        {
+            _previousMeans.Remove(tag);
+        }
+
+        return settled;
     }
 
     private double StageTemperatures(Dictionary<string, TagWindow> tags, HashSet<string> problemTags, out double?[] perStage)
