@@ -56,6 +56,7 @@ public sealed class UnitAnalyzer
     private double _solventBaseline;
     private int _solventBaselineCount;
     private double _softLast = double.NaN;
+    private double _softLagged = double.NaN;
     private (double Efficiency, double Sigma, double TheoreticalStages, double? Hets) _overall = (double.NaN, double.NaN, double.NaN, null);
     private DateTimeOffset? _first;
     private DateTimeOffset? _last;
@@ -461,7 +462,29 @@ public sealed class UnitAnalyzer
             UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
         }
 
-        (double soft, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
+        (double steadyState, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
+
+        // The cascade model gives the raffinate the unit will settle at; the hold-ups make the real one follow it with
+        // a lag. A first-order lag with the train's residence time (total hold-up over total throughput) stands in for
+        // the composition dynamics (a modelling choice of ours: the dominant time constant of a counter-current train
+        // is of the order of its residence time).
+        double soft = steadyState;
+        if (double.IsFinite(steadyState))
+        {
+            double throughput = MassFlow(feed) + MassFlow(solvent);
+            double tau = throughput > 0 ? _unit.Stages * _unit.Holdup.TotalKg / throughput * SecondsPerHour : 0;
+            if (double.IsFinite(_softLagged) && tau > 0)
+            {
+                double step = _settings.WindowLength.TotalSeconds;
+                _softLagged += (1 - Math.Exp(-step / tau)) * (steadyState - _softLagged);
+            }
+            else
+            {
+                _softLagged = steadyState;
+            }
+
+            soft = _softLagged;
+        }
         double? needed = null;
         if (double.IsFinite(soft) && soft + softSigma > _unit.RaffinateSoluteSpec)
         {
@@ -525,6 +548,9 @@ public sealed class UnitAnalyzer
 
         return settled;
     }
+
+    private double MassFlow(MaterialStream stream) =>
+        _unit.System.Basis == CompositionBasis.Mass ? stream.Flow : stream.Flow * _unit.System.MeanMolarMass(stream.Composition);
 
     private double StageTemperatures(Dictionary<string, TagWindow> tags, HashSet<string> problemTags, out double?[] perStage)
     {
