@@ -10,11 +10,11 @@ public static class CaseReader
 {
     private static readonly string[] CascadeKeys = ["system", "temperature", "arrangement", "stages", "feed", "solvent", "efficiency"];
 
-    public static SplitCase LoadSplit(string path) => Load(path, ReadSplit);
+    public static SplitCase LoadSplit(string path) => Load(path, CaseKinds.Split, ReadSplit);
 
-    public static CascadeCase LoadCascade(string path) => Load(path, ReadCascade);
+    public static CascadeCase LoadCascade(string path) => Load(path, CaseKinds.Cascade, ReadCascade);
 
-    public static DesignCase LoadDesign(string path) => Load(path, ReadDesign);
+    public static DesignCase LoadDesign(string path) => Load(path, CaseKinds.Design, ReadDesign);
 
     public static SplitCase? ReadSplit(JsonValue root)
     {
@@ -25,6 +25,7 @@ public static class CaseReader
 
         SystemFile? system = ReadSystem(o);
         double? t = ReadTemperature(o, system);
+        system = system is not null && t is double st ? EquilibriumModelFactory.AtTemperature(system, st) : system;
         var inlets = new List<MaterialStream>();
         if (o.Get("inlets")?.AsArray(1) is { } items && system is not null)
         {
@@ -56,6 +57,11 @@ public static class CaseReader
         }
 
         string? findText = o.Get("find")?.AsChoice("stages", "solvent", "minimum-solvent");
+        if (o.Get("arrangement", required: false) is { Kind: JsonValueKind.String } av && av.Element.GetString() == "crosscurrent")
+        {
+            o.Fail("arrangement", "design calculations are for counter-current cascades; use \"countercurrent\" (solve a cross-current cascade with 'tieflow calc cascade')");
+        }
+
         DesignGoal find = findText switch { "solvent" => DesignGoal.Solvent, "minimum-solvent" => DesignGoal.MinimumSolvent, _ => DesignGoal.Stages };
         CascadeCase? cascade = ReadCascadeFields(o, stagesRequired: find == DesignGoal.Solvent, solventFlowRequired: find == DesignGoal.Stages);
         DesignTarget? target = null;
@@ -116,11 +122,15 @@ public static class CaseReader
         return new MaterialStream(flow ?? 0, composition.Value);
     }
 
+    /// <summary>Every temperature a case may name, kelvin: what data without a temperature are valid for.</summary>
+    public static readonly TemperatureRange AnyTemperature = new(100, 800);
+
     /// <summary>Temperatures for which the data of a system file may be used.</summary>
     public static TemperatureRange ValidTemperatures(EquilibriumSpec spec) => spec switch
     {
         TieLineSpec t => TemperatureRange.Around(t.TemperatureKelvin, SystemFileReader.SingleTemperatureToleranceKelvin),
-        DistributionSpec d => TemperatureRange.Around(d.TemperatureKelvin, SystemFileReader.SingleTemperatureToleranceKelvin),
+        DistributionSpec { TemperatureKelvin: double dt } => TemperatureRange.Around(dt, SystemFileReader.SingleTemperatureToleranceKelvin),
+        DistributionSpec => AnyTemperature,
         NrtlSpec n => n.ValidTemperatures,
         UniquacSpec u => u.ValidTemperatures,
         _ => throw new ArgumentOutOfRangeException(nameof(spec), spec, "Unknown equilibrium data."),
@@ -130,6 +140,7 @@ public static class CaseReader
     {
         SystemFile? system = ReadSystem(o);
         double? t = ReadTemperature(o, system);
+        system = system is not null && t is double st ? EquilibriumModelFactory.AtTemperature(system, st) : system;
         string? arrangement = o.Get("arrangement")?.AsChoice("countercurrent", "crosscurrent");
         int? stages = o.Get("stages", stagesRequired)?.AsInteger(1, 200);
         MaterialStream? feed = null, solvent = null;
@@ -225,8 +236,20 @@ public static class CaseReader
             return null;
         }
 
+        if (InputFiles.InvalidPathReason(relative) is { } reason)
+        {
+            v.Fail($"'{InputFiles.Printable(relative)}' cannot be a path: {reason}");
+            return null;
+        }
+
         string baseDir = Path.GetDirectoryName(Path.GetFullPath(o.File)) ?? ".";
         string full = Path.GetFullPath(Path.Combine(baseDir, relative));
+        if (InputFiles.NotARegularFile(full) is { } what)
+        {
+            v.Fail($"'{relative}' is {what}, not a regular file (looked for {full}); give the path of a system file");
+            return null;
+        }
+
         if (!File.Exists(full))
         {
             v.Fail($"the system file '{relative}' does not exist (looked for {full}); the path is relative to the case file");
@@ -265,10 +288,11 @@ public static class CaseReader
         return t;
     }
 
-    private static T Load<T>(string path, Func<JsonValue, T?> read)
+    private static T Load<T>(string path, string kind, Func<JsonValue, T?> read)
         where T : class
     {
         using JsonDocument doc = JsonInputFile.Load(path);
+        CaseKinds.Expect(doc.RootElement, path, kind);
         var problems = new InputProblems();
         T? result = read(new JsonValue(doc.RootElement, path, "$", problems));
         problems.ThrowIfAny();

@@ -17,7 +17,7 @@ internal static class CascadeHandler
         {
             JsonOutput.Print(context.Output, w =>
             {
-                CascadeOutput.WriteJson(w, result, c.System.System);
+                CascadeOutput.WriteJson(w, result, c.System.System, notice: true);
             });
             return ExitCodes.Success;
         }

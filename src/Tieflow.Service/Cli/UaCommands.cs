@@ -4,7 +4,7 @@ using Tieflow.OpcUa.Encoding;
 namespace Tieflow.Service.Cli;
 
 /// <summary>
-/// The <c>ua</c> command group (CONTRACTS.md): an engineer's first check that Tieflow can see a plant's OPC UA
+/// The <c>ua</c> command group (docs/commands.md): an engineer's first check that Tieflow can see a plant's OPC UA
 /// server. Read-only: browse, read and watch.
 /// </summary>
 internal static class UaCommands
@@ -58,8 +58,8 @@ internal static class UaCommands
         Option<string> endpoint = Endpoint();
         Option<string?> user = User();
         Option<string[]> nodes = new("--node") { Description = "Node to watch (repeat the option for several)", HelpName = "NODEID", Required = true };
-        Option<TimeSpan> sampling = new("--sampling") { Description = "Sampling and publishing interval (default 00:00:01)", HelpName = "TIMESPAN", DefaultValueFactory = _ => TimeSpan.FromSeconds(1) };
-        Option<TimeSpan?> duration = new("--for") { Description = "Stop cleanly after this long (default: until Ctrl+C)", HelpName = "TIMESPAN" };
+        Option<TimeSpan> sampling = CommonOptions.Duration("--sampling", "Sampling and publishing interval, e.g. 500ms, 1s or 00:00:01 (default 1s)", TimeSpan.FromSeconds(1));
+        Option<TimeSpan?> duration = CommonOptions.OptionalDuration("--for", "Stop cleanly after this long, e.g. 30s, 15m, 2h or 01:30:00 (default: until Ctrl+C)");
         Option<bool> json = CommonOptions.Json();
         var command = new Command("watch", "Subscribes and prints each data change, reconnecting by itself if the server goes away.") { endpoint, nodes, sampling, duration, user, json };
         command.SetAction(parsed => Run(context, () => UaWatchHandler.Run(context,
@@ -77,13 +77,13 @@ internal static class UaCommands
         }
         catch (UaCliException e)
         {
-            context.Error.WriteLine(e.ExitCode == ExitCodes.BadInput ? $"error: {e.Message}" : $"failed: {e.Message}");
+            context.ReportFailure(e.ExitCode == ExitCodes.BadInput ? "error" : "failed", e.Message, e.ExitCode);
             return e.ExitCode;
         }
         catch (ServiceResultException e)
         {
             // The server answered but refused the request (unknown node, access denied...).
-            context.Error.WriteLine($"failed: {e.Message} ({e.Status})");
+            context.ReportFailure("failed", $"{e.Message} ({e.Status})", ExitCodes.RuntimeFailure);
             return ExitCodes.RuntimeFailure;
         }
     });
