@@ -144,10 +144,19 @@ public static class CaseReader
         string? arrangement = o.Get("arrangement")?.AsChoice("countercurrent", "crosscurrent");
         int? stages = o.Get("stages", stagesRequired)?.AsInteger(1, 200);
         MaterialStream? feed = null, solvent = null;
+        IReadOnlyList<double>? solventFlows = null;
         if (system is not null)
         {
             feed = o.Get("feed") is { } f ? ReadStream(f, system.System, flowRequired: true) : null;
-            solvent = o.Get("solvent") is { } s ? ReadStream(s, system.System, flowRequired: solventFlowRequired) : null;
+            JsonValue? solventValue = o.Get("solvent");
+            if (solventValue is { Kind: JsonValueKind.Object } sl && sl.Element.TryGetProperty("flow", out JsonElement flowElement) && flowElement.ValueKind == JsonValueKind.Array)
+            {
+                (solvent, solventFlows) = ReadSolventFlowList(o, sl, system.System, arrangement, stages);
+            }
+            else
+            {
+                solvent = solventValue is { } s ? ReadStream(s, system.System, flowRequired: solventFlowRequired) : null;
+            }
             if (feed is { Flow: <= 0 })
             {
                 o.Fail("feed.flow", "the feed flow must be above zero");
@@ -171,7 +180,55 @@ public static class CaseReader
         }
 
         var kind = arrangement == "crosscurrent" ? CascadeArrangement.Crosscurrent : CascadeArrangement.Countercurrent;
-        return new CascadeCase(o.File, system, t.Value, kind, stages ?? 0, feed.Value, solvent.Value, efficiencies);
+        return new CascadeCase(o.File, system, t.Value, kind, stages ?? 0, feed.Value, solvent.Value, efficiencies) { SolventFlows = solventFlows };
+    }
+
+    // A cross-current case may feed each stage its own fresh solvent flow: "solvent": { "flow": [f1, f2, ...], "composition": {...} }.
+    private static (MaterialStream? Solvent, IReadOnlyList<double>? Flows) ReadSolventFlowList(JsonObject o, JsonValue solventValue, TernarySystem system, string? arrangement, int? stages)
+    {
+        if (solventValue.AsObject("flow", "composition") is not { } so)
+        {
+            return (null, null);
+        }
+
+        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        JsonValue flowValue = so.Get("flow")!.Value;
+        Ternary? composition = so.Get("composition") is { } c ? SystemFileReader.ReadComposition(c, system) : null;
+        if (arrangement is not null && arrangement != "crosscurrent")
+        {
+            flowValue.Fail("a list of solvent flows (one per stage) is for cross-current cascades; a counter-current cascade has one solvent inlet, so give one number");
+            return (null, null);
+        }
+
+        if (o.Has("find"))
+        {
+            flowValue.Fail("a design case takes one solvent flow; give one number");
+            return (null, null);
+        }
+
+        if (flowValue.AsArray(1) is not { } items)
+        {
+            return (null, null);
+        }
+
+        if (stages is int n && items.Count != n)
+        {
+            flowValue.Fail($"expected one solvent flow per stage ({n}), found {items.Count}");
+            return (null, null);
+        }
+
+        var flows = new double[items.Count];
+        for (int i = 0; i < items.Count; i++)
+        {
+            if (items[i].AsNumber(0, 1e9, minExclusive: true, unit: unit) is not double f)
+            {
+                return (null, null);
+            }
+
+            flows[i] = f;
+        }
+
+        return composition is null ? (null, null) : (new MaterialStream(flows[0], composition.Value), flows);
     }
 
     private static double[]? ReadEfficiencies(JsonObject o, int? stages)

@@ -37,6 +37,7 @@ internal static class CliApp
             "Read-only towards the plant; not a safety system.");
         root.Subcommands.Add(CalcCommands.Create(context));
         root.Subcommands.Add(CheckCommand.Create(context));
+        root.Subcommands.Add(DescribeCommand.Create(context));
         root.Subcommands.Add(UaCommands.Create(context));
         return root;
     }

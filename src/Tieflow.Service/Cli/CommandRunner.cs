@@ -19,6 +19,11 @@ internal static class CommandRunner
             context.ReportProblems(e.Problems, ExitCodes.BadInput);
             return ExitCodes.BadInput;
         }
+        catch (CliUsageException e)
+        {
+            context.ReportFailure("error", e.Message, ExitCodes.BadInput);
+            return ExitCodes.BadInput;
+        }
         catch (Exception e) when (IsComputationFailure(e))
         {
             context.ReportFailure("could not compute", e.Message, ExitCodes.ComputationFailed);
