@@ -5,7 +5,7 @@ using Tieflow.Core.Equilibrium;
 
 namespace Tieflow.Files;
 
-/// <summary>Reads split, cascade and design case files (CONTRACTS.md) strictly, collecting every problem with its file and JSON path.</summary>
+/// <summary>Reads split, cascade and design case files (docs/file-formats.md) strictly, collecting every problem with its file and JSON path.</summary>
 public static class CaseReader
 {
     private static readonly string[] CascadeKeys = ["system", "temperature", "arrangement", "stages", "feed", "solvent", "efficiency"];

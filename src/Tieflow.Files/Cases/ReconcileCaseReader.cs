@@ -3,7 +3,7 @@ using Tieflow.Core.Reconciliation;
 
 namespace Tieflow.Files;
 
-/// <summary>Reads reconcile case files (CONTRACTS.md) strictly, collecting every problem with its file and JSON path.</summary>
+/// <summary>Reads reconcile case files (docs/file-formats.md) strictly, collecting every problem with its file and JSON path.</summary>
 public static class ReconcileCaseReader
 {
     /// <summary>Smallest significance of the gross-error tests; below it the critical values lose meaning.</summary>

@@ -7,7 +7,7 @@ using Tieflow.Core.Equilibrium.Distribution;
 namespace Tieflow.Files;
 
 /// <summary>
-/// Reads system files (components and equilibrium, CONTRACTS.md) strictly: every problem is collected with its file
+/// Reads system files (components and equilibrium, docs/file-formats.md) strictly: every problem is collected with its file
 /// and JSON path. Temperatures are kelvin; compositions are on the file's basis.
 /// </summary>
 public static class SystemFileReader

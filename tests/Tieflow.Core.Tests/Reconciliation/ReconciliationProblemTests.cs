@@ -6,7 +6,7 @@ public sealed class ReconciliationProblemTests
 {
     // Expected values: Narasimhan and Jordache, "Data Reconciliation and Gross Error Detection" (Gulf, 2000),
     // heat exchanger with bypass, as transcribed with computed reconciled values and normalised adjustments in
-    // shared/reference/README.md section 4.
+    // docs/reference-data.md §4.
     [Fact]
     public void Reconcile_HeatExchangerWithBypass_MatchesReference()
     {

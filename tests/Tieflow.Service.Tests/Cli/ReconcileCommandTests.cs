@@ -7,7 +7,7 @@ public sealed class ReconcileCommandTests
     private static string Sample(string name) => Path.Combine(RepositoryPaths.ConfigSamples, name);
 
     // Narasimhan and Jordache, "Data Reconciliation and Gross Error Detection" (Gulf, 2000), heat exchanger with
-    // bypass, reconciled values and tests as computed in shared/reference/README.md section 4.
+    // bypass, reconciled values and tests as computed in docs/reference-data.md §4.
     [Fact]
     public void Json_HeatExchangerSample_MatchesReference()
     {
