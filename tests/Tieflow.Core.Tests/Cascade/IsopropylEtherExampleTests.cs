@@ -42,7 +42,7 @@ public sealed class IsopropylEtherExampleTests
         Assert.InRange(result.Cascade.Extract.Composition.Solute, 0.08 - 0.01, 0.08 + 0.01);
 
         // The stage count of the balance at the target itself, against the 3.66 of piecewise-linear interpolation
-        // (README section 2: other interpolation schemes move it by 0.1 to 0.3).
+        // (docs/reference-data.md §2: other interpolation schemes move it by 0.1 to 0.3).
         Assert.InRange(design.CountStages(Feed, Ether.Composition, 600, 0.04, [1.0]), 3.66 - 0.3, 3.66 + 0.3);
     }
 

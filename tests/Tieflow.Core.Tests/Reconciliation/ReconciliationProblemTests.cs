@@ -37,7 +37,7 @@ public sealed class ReconciliationProblemTests
         Assert.True(result.BalanceResidual < 1e-12);
     }
 
-    // Constructed variant of the same reference (README section 4): +5 on stream 2.
+    // Constructed variant of the same reference (docs/reference-data.md §4): +5 on stream 2.
     [Fact]
     public void Reconcile_HeatExchangerVariant_MatchesReferenceTests()
     {

@@ -47,7 +47,7 @@ public sealed class ReconcileCommandTests
     [Fact]
     public void Json_HeatExchangerVariant_NamesStreamTwo()
     {
-        // Constructed variant of the same reference (README section 4): +5 on stream 2.
+        // Constructed variant of the same reference (docs/reference-data.md §4): +5 on stream 2.
         using var folder = new TempFolder();
         string file = folder.Write("case.json", File.ReadAllText(Sample("hx-bypass-reconcile.case.json")).Replace("64.45", "69.45", StringComparison.Ordinal));
 
