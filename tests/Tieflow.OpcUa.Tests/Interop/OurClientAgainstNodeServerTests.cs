@@ -10,6 +10,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// source timestamps arriving unchanged, and multi-chunk responses with an 8192-byte buffer.
 /// </summary>
 [Collection(NodePeerCollection.Name)]
+[Trait("Category", "Interop")]
 public sealed class OurClientAgainstNodeServerTests(PlantPeerFixture fixture) : IClassFixture<PlantPeerFixture>
 {
     private const string Ns = "urn:example:plant-sim";

@@ -12,6 +12,7 @@ namespace Tieflow.OpcUa.Tests.Server;
 /// answer or close each connection within a second, refuse bad input only with the statuses its limits name (never
 /// the internal-error status that marks a defect), and still serve a normal session afterwards.
 /// </summary>
+[Trait("Category", "Fuzz")]
 public sealed class ServerFuzzTests
 {
     private const int Messages = 10_000;
