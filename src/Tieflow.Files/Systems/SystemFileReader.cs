@@ -39,6 +39,12 @@ public static class SystemFileReader
         }
 
         string? name = o.Get("name")?.AsString();
+        if (name is not null && (name.Length > 200 || name.Any(char.IsControl)))
+        {
+            o.Fail("name", "expected a name of at most 200 characters without control characters");
+            name = null;
+        }
+
         string? basisText = o.Get("basis")?.AsChoice("mass", "mole");
         CompositionBasis basis = basisText == "mole" ? CompositionBasis.Mole : CompositionBasis.Mass;
 
