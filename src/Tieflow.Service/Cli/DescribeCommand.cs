@@ -201,6 +201,12 @@ internal static class DescribeCommand
             console.WriteLine($"Othmer-Tobias and Hand fits: not applicable ({problem}).");
         }
 
+        if (d.Measured && d.Lines.Count > 0)
+        {
+            console.WriteLine($"The measured tie lines span a raffinate solute {fr} of {Num(d.Lines.Min(l => l.Raffinate.Solute), "F4")} to {Num(d.Lines.Max(l => l.Raffinate.Solute), "F4")}; " +
+                "below the first the binary ends are extrapolated, above the last the plait point estimate closes the envelope.");
+        }
+
         if (d.Limits is { } lim && d.File.Spec is not DistributionSpec)
         {
             console.WriteLine($"Two liquid phases up to a solute {fr} of {Num(lim.Raffinate, "F4")} in the raffinate and {Num(lim.Extract, "F4")} in the extract.");

@@ -60,13 +60,19 @@ public sealed class SpecialFileTests
 
         using var folder = new TempFolder();
         string fifo = Path.Combine(folder.Path, "pipe.json");
-        using (var mkfifo = Process.Start(new ProcessStartInfo("mkfifo", fifo) { UseShellExecute = false }))
+        try
         {
-            mkfifo!.WaitForExit();
+            using var mkfifo = Process.Start(new ProcessStartInfo("mkfifo", fifo) { UseShellExecute = false });
+            await mkfifo!.WaitForExitAsync();
             if (mkfifo.ExitCode != 0)
             {
                 return;
             }
+        }
+        catch (System.ComponentModel.Win32Exception)
+        {
+            // No mkfifo on this machine: nothing to test.
+            return;
         }
 
         string caseFile = folder.Write("case.json", BadInputTests.SplitCase.Replace("system.json", "pipe.json", StringComparison.Ordinal));
