@@ -7,7 +7,7 @@ using Tieflow.Core.Equilibrium.Distribution;
 namespace Tieflow.Files;
 
 /// <summary>
-/// Reads system files (components and equilibrium, CONTRACTS.md) strictly: every problem is collected with its file
+/// Reads system files (components and equilibrium, docs/file-formats.md) strictly: every problem is collected with its file
 /// and JSON path. Temperatures are kelvin; compositions are on the file's basis.
 /// </summary>
 public static class SystemFileReader
@@ -39,6 +39,12 @@ public static class SystemFileReader
         }
 
         string? name = o.Get("name")?.AsString();
+        if (name is not null && (name.Length > 200 || name.Any(char.IsControl)))
+        {
+            o.Fail("name", "expected a name of at most 200 characters without control characters");
+            name = null;
+        }
+
         string? basisText = o.Get("basis")?.AsChoice("mass", "mole");
         CompositionBasis basis = basisText == "mole" ? CompositionBasis.Mole : CompositionBasis.Mass;
 
@@ -144,7 +150,7 @@ public static class SystemFileReader
                 continue;
             }
 
-            string? id = c.Get("id")?.AsString();
+            string? id = c.Get("id") is { } idValue ? Identifiers.Read(idValue) : null;
             string? role = c.Get("role")?.AsChoice("solute", "diluent", "solvent");
             double? molarMass = c.Get("molarMass")?.AsNumber(0, 10000, minExclusive: true, unit: "kg/kmol");
             double? r = c.Get("r", needStructure)?.AsNumber(0, 1000, minExclusive: true);
@@ -331,10 +337,16 @@ public static class SystemFileReader
         return ok ? pairs : null;
     }
 
+    /// <summary>Largest solute-free ratio in an isotherm (kg solute per kg diluent or solvent) and the range of a constant k.</summary>
+    public const double MaxIsothermRatio = 1000;
+
     private static DistributionSpec? ReadDistribution(JsonObject eq, TernarySystem system)
     {
         _ = system;
-        double? t = ReadTemperature(eq);
+
+        // A distribution coefficient need not name a temperature: without one it is taken to hold at any temperature.
+        double? t = eq.Has("temperature") ? ReadTemperature(eq) : null;
+        bool temperatureOk = !eq.Has("temperature") || t is not null;
         bool hasK = eq.Has("k"), hasTable = eq.Has("isotherm");
         if (hasK == hasTable)
         {
@@ -345,7 +357,7 @@ public static class SystemFileReader
         DistributionIsotherm? isotherm = null;
         if (hasK)
         {
-            double? k = eq.Get("k")!.Value.AsNumber(0, double.PositiveInfinity, minExclusive: true);
+            double? k = eq.Get("k")!.Value.AsNumber(1e-6, 1e6, unit: "(Y per X, solute-free ratios)");
             isotherm = k is null ? null : DistributionIsotherm.Constant(k.Value);
         }
         else if (eq.Get("isotherm")!.Value.AsArray(2) is { } rows)
@@ -353,7 +365,8 @@ public static class SystemFileReader
             var points = new List<(double X, double Y)>();
             foreach (JsonValue row in rows)
             {
-                if (row.AsArray(2) is { Count: 2 } xy && xy[0].AsNumber(0) is double x && xy[1].AsNumber(0) is double y)
+                if (row.AsArray(2) is { Count: 2 } xy && xy[0].AsNumber(0, MaxIsothermRatio, unit: "(kg solute per kg diluent)") is double x
+                    && xy[1].AsNumber(0, MaxIsothermRatio, unit: "(kg solute per kg solvent)") is double y)
                 {
                     if (points.Count > 0 && (x <= points[^1].X || y <= points[^1].Y))
                     {
@@ -365,7 +378,7 @@ public static class SystemFileReader
                 }
                 else
                 {
-                    row.Fail("expected a pair [X, Y] of ratios that are zero or more");
+                    row.Fail($"expected a pair [X, Y] of solute-free ratios from 0 to {MaxIsothermRatio:G}");
                     return null;
                 }
             }
@@ -373,7 +386,7 @@ public static class SystemFileReader
             isotherm = DistributionIsotherm.Table(points);
         }
 
-        return t is null || isotherm is null ? null : new DistributionSpec(t.Value, isotherm);
+        return !temperatureOk || isotherm is null ? null : new DistributionSpec(t, isotherm);
     }
 
     private static int ReadComponentRef(JsonObject p, string key, TernarySystem system)
