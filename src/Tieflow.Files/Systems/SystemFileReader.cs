@@ -48,6 +48,14 @@ public static class SystemFileReader
         {
             eq = eqValue.AsObject("model", "temperature", "tieLines", "pairs", "k", "isotherm", "temperatureRange");
             modelName = eq?.Get("model")?.AsChoice(Models);
+            if (eq is { } used && modelName is not null)
+            {
+                string[] own = ModelKeys(modelName);
+                foreach (string key in new[] { "temperature", "tieLines", "pairs", "k", "isotherm", "temperatureRange" }.Where(k => used.Has(k) && Array.IndexOf(own, k) < 0))
+                {
+                    used.Fail(key, $"the {modelName} model has no \"{key}\"; expected only: model, {string.Join(", ", own)} (or 'notes')");
+                }
+            }
         }
 
         var (components, structure) = ReadComponents(o, modelName == "uniquac");
@@ -392,6 +400,13 @@ public static class SystemFileReader
 
         return index;
     }
+
+    private static string[] ModelKeys(string model) => model switch
+    {
+        "tie-lines" => ["temperature", "tieLines"],
+        "nrtl" or "uniquac" => ["pairs", "temperatureRange"],
+        _ => ["temperature", "k", "isotherm"],
+    };
 
     private static double? ReadTemperature(JsonObject eq) => eq.Get("temperature")?.AsNumber(100, 800, unit: "K");
 
