@@ -32,6 +32,8 @@ public static class SystemFileReader
     /// <summary>Reads a system from a JSON value (a whole file, or an inline <c>system</c> object of a case).</summary>
     public static SystemFile? Read(JsonValue value)
     {
+        // Problems found before this system (in other units of a plant file) must not make this one unusable.
+        int before = value.Problems.Items.Count;
         JsonObject? root = value.AsObject("name", "basis", "components", "equilibrium");
         if (root is not { } o)
         {
@@ -84,7 +86,7 @@ public static class SystemFileReader
             "uniquac" => ReadUniquac(e2, system, structure!),
             _ => ReadDistribution(e2, system),
         };
-        if (spec is null || value.Problems.Any)
+        if (spec is null || value.Problems.Items.Count != before)
         {
             return null;
         }
