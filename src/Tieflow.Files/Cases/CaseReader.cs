@@ -80,6 +80,10 @@ public static class CaseReader
                 {
                     t.Fail("recovery", "a recovery of 1 needs infinitely many stages; expected a value below 1");
                 }
+                else if (fraction >= 1)
+                {
+                    t.Fail("raffinateFraction", "a raffinate of pure solute asks for no extraction; expected a solute fraction below 1");
+                }
                 else if (fraction is > 0 and < 1)
                 {
                     target = DesignTarget.RaffinateFraction(fraction.Value);

@@ -32,6 +32,8 @@ public static class SystemFileReader
     /// <summary>Reads a system from a JSON value (a whole file, or an inline <c>system</c> object of a case).</summary>
     public static SystemFile? Read(JsonValue value)
     {
+        // Problems found before this system (in other units of a plant file) must not make this one unusable.
+        int before = value.Problems.Items.Count;
         JsonObject? root = value.AsObject("name", "basis", "components", "equilibrium");
         if (root is not { } o)
         {
@@ -54,6 +56,14 @@ public static class SystemFileReader
         {
             eq = eqValue.AsObject("model", "temperature", "tieLines", "pairs", "k", "isotherm", "temperatureRange");
             modelName = eq?.Get("model")?.AsChoice(Models);
+            if (eq is { } used && modelName is not null)
+            {
+                string[] own = ModelKeys(modelName);
+                foreach (string key in new[] { "temperature", "tieLines", "pairs", "k", "isotherm", "temperatureRange" }.Where(k => used.Has(k) && Array.IndexOf(own, k) < 0))
+                {
+                    used.Fail(key, $"the {modelName} model has no \"{key}\"; expected only: model, {string.Join(", ", own)} (or 'notes')");
+                }
+            }
         }
 
         var (components, structure) = ReadComponents(o, modelName == "uniquac");
@@ -82,7 +92,7 @@ public static class SystemFileReader
             "uniquac" => ReadUniquac(e2, system, structure!),
             _ => ReadDistribution(e2, system),
         };
-        if (spec is null || value.Problems.Any)
+        if (spec is null || value.Problems.Items.Count != before)
         {
             return null;
         }
@@ -405,6 +415,13 @@ public static class SystemFileReader
 
         return index;
     }
+
+    private static string[] ModelKeys(string model) => model switch
+    {
+        "tie-lines" => ["temperature", "tieLines"],
+        "nrtl" or "uniquac" => ["pairs", "temperatureRange"],
+        _ => ["temperature", "k", "isotherm"],
+    };
 
     private static double? ReadTemperature(JsonObject eq) => eq.Get("temperature")?.AsNumber(100, 800, unit: "K");
 
