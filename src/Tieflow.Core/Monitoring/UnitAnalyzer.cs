@@ -418,7 +418,12 @@ public sealed class UnitAnalyzer
         bool anyUnobserved = false;
         foreach (StageEfficiency e in rec.Efficiencies)
         {
-            if (e.Status == EfficiencyStatus.Determined)
+            // A column's theoretical stages have no streams of their own to measure: it always gets one shared efficiency.
+            if (_unit.Kind == UnitKind.Column)
+            {
+                anyUnobserved = true;
+            }
+            else if (e.Status == EfficiencyStatus.Determined)
             {
                 efficiencies[e.Stage - 1] = new EstimatedValue(e.Value, e.Sigma);
             }
@@ -653,7 +658,7 @@ public sealed class UnitAnalyzer
             double[] eff = new double[_unit.Stages];
             for (int k = 0; k < _unit.Stages; k++)
             {
-                eff[k] = efficiencies[k]?.Value ?? e;
+                eff[k] = Math.Clamp(efficiencies[k]?.Value ?? e, 0.02, 1);
             }
 
             return solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;

@@ -10,6 +10,12 @@ namespace Tieflow.Core.Monitoring.Efficiency;
 /// </summary>
 public static class StageEfficiencyEstimator
 {
+    /// <summary>Below this an estimate is not determinable.</summary>
+    public const double PlausibleLow = -0.25;
+
+    /// <summary>Above this an estimate is not determinable.</summary>
+    public const double PlausibleHigh = 1.25;
+
     /// <summary>Estimates the efficiency of a stage.</summary>
     /// <param name="model">The equilibrium model.</param>
     /// <param name="temperatureKelvin">Stage temperature, kelvin.</param>
@@ -56,7 +62,9 @@ public static class StageEfficiencyEstimator
         }
 
         double sigma = Math.Sqrt(Math.Max(variance, 0));
-        bool determinable = double.IsFinite(e) && double.IsFinite(sigma) && sigma <= maxSigma && Math.Abs(d) > 0;
+        // Noise can put an efficiency a little outside [0, 1]; far outside it the streams do not describe one stage at
+        // steady state (common practice, no source), and the number is not reported.
+        bool determinable = double.IsFinite(e) && double.IsFinite(sigma) && sigma <= maxSigma && Math.Abs(d) > 0 && e > PlausibleLow && e < PlausibleHigh;
         return determinable
             ? new StageEfficiency(stage, EfficiencyStatus.Determined, e, sigma, d)
             : new StageEfficiency(stage, EfficiencyStatus.NotDeterminable, double.NaN, sigma, d);
