@@ -147,7 +147,14 @@ public sealed class Outbox : IDisposable
             var skip = new bool[points.Count];
             using (SqliteTransaction transaction = _connection.BeginTransaction())
             {
+                // Shedding frees a little more than the excess, so that the alert saying so fits too.
+                long headroom = Math.Min(4096, _options.MaxBytes / 10);
                 long excess = pendingBytes + incoming - _options.MaxBytes;
+                if (excess > 0)
+                {
+                    excess += headroom;
+                }
+
                 var newlyShedding = new List<string>();
                 if (excess > 0)
                 {
