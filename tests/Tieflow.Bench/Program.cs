@@ -15,6 +15,12 @@ public static class Program
             return;
         }
 
+        if (args.Length > 0 && args[0] == "store")
+        {
+            await Storage.StoreProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 400_000);
+            return;
+        }
+
         if (args.Length > 0 && args[0] == "forward")
         {
             await Storage.ForwardingProbe.RunAsync(

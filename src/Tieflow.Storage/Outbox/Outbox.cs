@@ -9,10 +9,12 @@ namespace Tieflow.Storage.Outbox;
 
 /// <summary>
 /// A durable queue of points in a SQLite file. <see cref="Append"/> returns once the points are committed (that is
-/// the acknowledgement); the forwarder reads the oldest with <see cref="Peek"/> and removes them with
+/// the acknowledgement); the forwarder reads the oldest with <see cref="Peek(int, long)"/> and removes them with
 /// <see cref="Remove"/> only after the server accepted them, so a restart resumes with what was not yet forwarded,
 /// and a batch that was sent but not removed is sent again (the points are idempotent: it overwrites).
 /// When full it drops the oldest expendable points (signal samples) and raises a <c>store-backlog</c> alert.
+/// Sequence numbers are never reused (AUTOINCREMENT), even after the outbox was empty: the forwarder's cursor and
+/// <see cref="Remove"/> rely on it.
 /// </summary>
 public sealed class Outbox : IDisposable
 {
@@ -45,7 +47,7 @@ public sealed class Outbox : IDisposable
         try
         {
             SqliteSchema.Execute(_connection,
-                "CREATE TABLE IF NOT EXISTS outbox(id INTEGER PRIMARY KEY, line TEXT NOT NULL, expendable INTEGER NOT NULL, bytes INTEGER NOT NULL, unit TEXT NOT NULL);" +
+                "CREATE TABLE IF NOT EXISTS outbox(id INTEGER PRIMARY KEY AUTOINCREMENT, line TEXT NOT NULL, expendable INTEGER NOT NULL, bytes INTEGER NOT NULL, unit TEXT NOT NULL);" +
                 "CREATE INDEX IF NOT EXISTS outbox_expendable ON outbox(id) WHERE expendable = 1;" +
                 "CREATE TABLE IF NOT EXISTS outbox_meta(key TEXT PRIMARY KEY, value TEXT NOT NULL) WITHOUT ROWID;");
             _insert = _connection.CreateCommand();
@@ -233,14 +235,18 @@ public sealed class Outbox : IDisposable
     }
 
     /// <summary>Up to <paramref name="max"/> of the oldest points, in the order they were committed.</summary>
-    public IReadOnlyList<OutboxEntry> Peek(int max)
+    public IReadOnlyList<OutboxEntry> Peek(int max) => Peek(max, long.MinValue);
+
+    /// <summary>Up to <paramref name="max"/> of the oldest points after the sequence number <paramref name="afterId"/>.</summary>
+    public IReadOnlyList<OutboxEntry> Peek(int max, long afterId)
     {
         lock (_gate)
         {
             ObjectDisposedException.ThrowIf(_disposed, this);
             using SqliteCommand command = _connection.CreateCommand();
-            command.CommandText = "SELECT id, line FROM outbox ORDER BY id LIMIT $n;";
+            command.CommandText = "SELECT id, line FROM outbox WHERE id > $after ORDER BY id LIMIT $n;";
             command.Parameters.AddWithValue("$n", max);
+            command.Parameters.AddWithValue("$after", afterId);
             var result = new List<OutboxEntry>(Math.Min(max, 1024));
             using SqliteDataReader r = command.ExecuteReader();
             while (r.Read())

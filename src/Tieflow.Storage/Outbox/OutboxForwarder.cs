@@ -98,13 +98,27 @@ public sealed partial class OutboxForwarder
     public DateTimeOffset? LastSuccess { get { lock (_gate) { return _lastSuccess; } } }
 
     /// <summary>Forwards until cancelled; returns then (what is left stays in the outbox).</summary>
+    /// <remarks>
+    /// One request is in flight at a time, in the outbox's order. While it is, the batch before it (already accepted)
+    /// is removed from the outbox, so the local commit overlaps the network. After a failure the forwarder starts
+    /// again from the oldest point still held.
+    /// </remarks>
     public async Task RunAsync(CancellationToken cancellationToken)
     {
+        long after = long.MinValue;
+        long? toRemove = null;
         while (!cancellationToken.IsCancellationRequested)
         {
-            IReadOnlyList<OutboxEntry> batch = _outbox.Peek(_options.BatchSize);
+            IReadOnlyList<OutboxEntry> batch = _outbox.Peek(_options.BatchSize, after);
             if (batch.Count == 0)
             {
+                if (toRemove is { } done)
+                {
+                    _outbox.Remove(done);
+                    toRemove = null;
+                    continue;
+                }
+
                 SetState(ForwarderState.Idle);
                 await WaitAsync(_options.IdlePoll, wakeable: true, cancellationToken).ConfigureAwait(false);
                 continue;
@@ -116,9 +130,16 @@ public sealed partial class OutboxForwarder
                 lines[i] = batch[i].Line;
             }
 
+            Task send = _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).AsTask();
+            if (toRemove is { } accepted)
+            {
+                _outbox.Remove(accepted);
+                toRemove = null;
+            }
+
             try
             {
-                await _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).ConfigureAwait(false);
+                await send.ConfigureAwait(false);
             }
             catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
             {
@@ -132,13 +153,15 @@ public sealed partial class OutboxForwarder
                     _lastError = e.Message;
                 }
 
+                after = long.MinValue;
                 LogForwardFailed(_logger, batch.Count, _outbox.PendingRecords, e.Message);
                 SetState(e is BrokenCircuitException ? ForwarderState.CircuitOpen : ForwarderState.Failing);
                 await WaitAsync(_options.PauseAfterFailure, wakeable: false, cancellationToken).ConfigureAwait(false);
                 continue;
             }
 
-            _outbox.Remove(batch[^1].Id);
+            after = batch[^1].Id;
+            toRemove = after;
             Interlocked.Add(ref _forwarded, batch.Count);
             bool recovered;
             lock (_gate)
@@ -154,6 +177,11 @@ public sealed partial class OutboxForwarder
 
             SetState(ForwarderState.Forwarding);
             BatchForwarded?.Invoke(batch.Count);
+        }
+
+        if (toRemove is { } last)
+        {
+            _outbox.Remove(last);
         }
     }
 

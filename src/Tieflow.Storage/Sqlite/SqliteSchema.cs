@@ -28,6 +28,7 @@ internal static class SqliteSchema
         Execute(connection, "PRAGMA journal_mode=WAL;");
         Execute(connection, syncEveryCommit ? "PRAGMA synchronous=FULL;" : "PRAGMA synchronous=NORMAL;");
         Execute(connection, "PRAGMA busy_timeout=5000;");
+        Execute(connection, "PRAGMA cache_size=-16384;");
         return connection;
     }
 

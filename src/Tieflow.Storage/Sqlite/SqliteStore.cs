@@ -6,7 +6,8 @@ namespace Tieflow.Storage.Sqlite;
 
 /// <summary>
 /// The embedded store: one SQLite file in WAL mode holding the points of CONTRACTS.md in one table keyed by
-/// (measurement, tags, time), so that writing a record again overwrites it. Each batch is one transaction through a
+/// (time, measurement, tags), so that writing a record again overwrites it. Time leads the key because records arrive
+/// in time order: inserts append at the end of the tree, and retention deletes from its start. Each batch is one transaction through a
 /// prepared statement; retention by age and by size runs after each commit.
 /// </summary>
 public sealed class SqliteStore : IRecordSink
@@ -38,7 +39,7 @@ public sealed class SqliteStore : IRecordSink
             _upsert = _connection.CreateCommand();
             _upsert.CommandText =
                 "INSERT INTO points(measurement, tags, time, fields) VALUES($m, $t, $time, $f) " +
-                "ON CONFLICT(measurement, tags, time) DO UPDATE SET fields = excluded.fields;";
+                "ON CONFLICT(time, measurement, tags) DO UPDATE SET fields = excluded.fields;";
             _measurement = _upsert.Parameters.Add("$m", SqliteType.Text);
             _tags = _upsert.Parameters.Add("$t", SqliteType.Text);
             _timeMs = _upsert.Parameters.Add("$time", SqliteType.Integer);
@@ -67,8 +68,7 @@ public sealed class SqliteStore : IRecordSink
             "CREATE TABLE IF NOT EXISTS tieflow_meta(key TEXT PRIMARY KEY, value TEXT NOT NULL) WITHOUT ROWID;" +
             "CREATE TABLE IF NOT EXISTS points(" +
             " measurement TEXT NOT NULL, tags TEXT NOT NULL, time INTEGER NOT NULL, fields TEXT NOT NULL," +
-            " PRIMARY KEY(measurement, tags, time)) WITHOUT ROWID;" +
-            "CREATE INDEX IF NOT EXISTS points_time ON points(time);" +
+            " PRIMARY KEY(time, measurement, tags)) WITHOUT ROWID;" +
             $"INSERT OR IGNORE INTO tieflow_meta(key, value) VALUES('kind', 'tieflow-store'), ('version', '{SqliteSchema.StoreVersion}');");
     }
 

@@ -34,6 +34,18 @@ public sealed class OutboxTests : IDisposable
     }
 
     [Fact]
+    public void Sequence_numbers_are_not_reused_after_the_outbox_was_empty()
+    {
+        using StoreOutbox outbox = Open();
+        outbox.Append(Records.Mixed(10));
+        long last = outbox.Peek(100)[^1].Id;
+        outbox.Remove(last);
+        Assert.Equal(0, outbox.PendingRecords);
+        outbox.Append(Records.Mixed(10, Records.Start.AddDays(1)));
+        Assert.Equal(10, outbox.Peek(100, last).Count);
+    }
+
+    [Fact]
     public void After_a_restart_the_outbox_resumes_with_what_was_not_removed()
     {
         List<MonitorRecord> records = Records.Mixed(1000);
