@@ -66,23 +66,38 @@ internal static class ForwardingProbe
             using var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = url, Org = "tieflow", Bucket = "tieflow" });
             var forwarder = new OutboxForwarder(outbox, writer, new OutboxForwarderOptions { BatchSize = batchSize }, TimeProvider.System);
             using var cts = new CancellationTokenSource();
+            using Process self = Process.GetCurrentProcess();
+            TimeSpan cpu0 = self.TotalProcessorTime;
             var clock = Stopwatch.StartNew();
             Task run = forwarder.RunAsync(cts.Token);
             await outbox.WaitUntilEmptyAsync(CancellationToken.None);
             clock.Stop();
+            self.Refresh();
+            TimeSpan cpu = self.TotalProcessorTime - cpu0;
             await cts.CancelAsync();
             await run;
 
-            (await http.GetAsync($"{url}/internal/force_flush")).EnsureSuccessStatusCode();
-            string series = await http.GetStringAsync($"{url}/api/v1/export?match[]=tieflow_signal_value&start=0");
-            long samples = series.Split('\n', StringSplitOptions.RemoveEmptyEntries).Sum(line => (long)line.Split("\"values\":[")[1].Split(']')[0].Count(c => c == ',') + 1);
             long signals = records.Count(r => r is SignalRecord);
+            long samples = 0;
+            var readBack = Stopwatch.StartNew();
+            for (int attempt = 0; attempt < 20 && samples < signals; attempt++)
+            {
+                // The server makes what it accepted searchable in the background; look again until it is all there.
+                (await http.GetAsync($"{url}/internal/force_flush")).EnsureSuccessStatusCode();
+                string series = await http.GetStringAsync($"{url}/api/v1/export?match[]=tieflow_signal_value&start=0");
+                samples = series.Split('\n', StringSplitOptions.RemoveEmptyEntries).Sum(line => (long)line.Split("\"values\":[")[1].Split(']')[0].Count(c => c == ',') + 1);
+                if (samples < signals)
+                {
+                    await Task.Delay(500);
+                }
+            }
+
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"outbox fill: {count:N0} records in {fill.Elapsed.TotalSeconds:F2} s ({count / fill.Elapsed.TotalSeconds:N0}/s)"));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"forwarding: {forwarder.Forwarded:N0} points in {clock.Elapsed.TotalSeconds:F2} s = {forwarder.Forwarded / clock.Elapsed.TotalSeconds:N0} points/s (batches of {batchSize}, gzip); failures {forwarder.Failures}"));
+                $"forwarding: {forwarder.Forwarded:N0} points in {clock.Elapsed.TotalSeconds:F2} s = {forwarder.Forwarded / clock.Elapsed.TotalSeconds:N0} points/s (batches of {batchSize}, gzip); failures {forwarder.Failures}; forwarder CPU {cpu.TotalSeconds:F2} s ({forwarder.Forwarded / cpu.TotalSeconds:N0} points per CPU second)"));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"server holds {samples:N0} tieflow_signal_value samples of {signals:N0} written"));
+                $"server holds {samples:N0} tieflow_signal_value samples of {signals:N0} written (read back after {readBack.Elapsed.TotalSeconds:F1} s)"));
         }
         finally
         {

@@ -90,6 +90,6 @@ public sealed class OutboxOutageTests : IDisposable
 
         Assert.Equal(Count, acknowledged.Count);
         var expected = ExpectedSamples.Of(acknowledged.Select(r => RecordPoints.ToPoint(r, Records.Site)!));
-        ExpectedSamples.AssertExactlyOnce(expected, await _server.ExportAsync());
+        ExpectedSamples.AssertExactlyOnce(expected, await _server.ExportAsync(expected.Count));
     }
 }

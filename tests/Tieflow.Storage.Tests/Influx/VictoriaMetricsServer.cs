@@ -101,7 +101,23 @@ internal sealed class VictoriaMetricsServer : IDisposable
     }
 
     /// <summary>Every sample of the series whose name starts with <c>tieflow_</c>: key "name{sorted labels}@ms" to the values seen.</summary>
-    public async Task<Dictionary<string, List<double>>> ExportAsync()
+    /// <remarks>
+    /// The server makes accepted samples searchable in the background: with <paramref name="expected"/> it looks again
+    /// (up to about 20 s) until at least that many samples are there, then returns what it holds.
+    /// </remarks>
+    public async Task<Dictionary<string, List<double>>> ExportAsync(int expected = 0)
+    {
+        Dictionary<string, List<double>> result = await ExportOnceAsync();
+        for (int attempt = 0; attempt < 40 && result.Values.Sum(v => v.Count) < expected; attempt++)
+        {
+            await Task.Delay(500);
+            result = await ExportOnceAsync();
+        }
+
+        return result;
+    }
+
+    private async Task<Dictionary<string, List<double>>> ExportOnceAsync()
     {
         (await _http.GetAsync($"{Url}/internal/force_flush")).EnsureSuccessStatusCode();
         var form = new FormUrlEncodedContent([new("match[]", "{__name__=~\"tieflow_.*\"}"), new("start", "0")]);
