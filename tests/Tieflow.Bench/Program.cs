@@ -15,6 +15,20 @@ public static class Program
             return;
         }
 
+        if (args.Length > 0 && args[0] == "store")
+        {
+            await Storage.StoreProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 400_000);
+            return;
+        }
+
+        if (args.Length > 0 && args[0] == "forward")
+        {
+            await Storage.ForwardingProbe.RunAsync(
+                args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 300_000,
+                args.Length > 2 ? int.Parse(args[2], CultureInfo.InvariantCulture) : 5000);
+            return;
+        }
+
         BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
     }
 }

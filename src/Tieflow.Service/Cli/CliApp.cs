@@ -40,6 +40,7 @@ internal static class CliApp
         root.Subcommands.Add(DescribeCommand.Create(context));
         root.Subcommands.Add(UaCommands.Create(context));
         root.Subcommands.Add(ReplayCommand.Create(context));
+        root.Subcommands.Add(ShowCommand.Create(context));
         return root;
     }
 }

@@ -1,0 +1,268 @@
+using Microsoft.Extensions.Logging;
+using Microsoft.Extensions.Logging.Abstractions;
+using Polly;
+using Polly.CircuitBreaker;
+using Polly.Retry;
+using Tieflow.Storage.Influx;
+
+namespace Tieflow.Storage.Outbox;
+
+/// <summary>
+/// Drains the outbox into the time-series server: the oldest batch is sent through a resilience pipeline (retry with
+/// exponential back-off inside a circuit breaker, on the injected clock) and removed only after the server accepted
+/// it. A failed batch stays where it is and is tried again after a pause; on restart the forwarder starts with the
+/// oldest point the file still holds.
+/// </summary>
+public sealed partial class OutboxForwarder
+{
+    private readonly Outbox _outbox;
+    private readonly IInfluxLineWriter _writer;
+    private readonly OutboxForwarderOptions _options;
+    private readonly TimeProvider _time;
+    private readonly ILogger _logger;
+    private readonly ResiliencePipeline _pipeline;
+    private readonly Lock _gate = new();
+    private CancellationTokenSource? _wake;
+    private bool _pendingWake;
+    private ForwarderState _state = ForwarderState.Idle;
+    private long _forwarded;
+    private long _failures;
+    private string? _lastError;
+    private DateTimeOffset? _lastSuccess;
+
+    public OutboxForwarder(Outbox outbox, IInfluxLineWriter writer, OutboxForwarderOptions options, TimeProvider time, ILoggerFactory? loggerFactory = null)
+    {
+        ArgumentNullException.ThrowIfNull(outbox);
+        ArgumentNullException.ThrowIfNull(writer);
+        ArgumentNullException.ThrowIfNull(options);
+        ArgumentNullException.ThrowIfNull(time);
+        _outbox = outbox;
+        _writer = writer;
+        _options = options;
+        _time = time;
+        loggerFactory ??= NullLoggerFactory.Instance;
+        _logger = loggerFactory.CreateLogger<OutboxForwarder>();
+        var handled = new PredicateBuilder().Handle<Exception>(e => e is not OperationCanceledException and not BrokenCircuitException);
+        _pipeline = new ResiliencePipelineBuilder { TimeProvider = time, Name = "tieflow-outbox" }
+            .AddRetry(new RetryStrategyOptions
+            {
+                ShouldHandle = handled,
+                MaxRetryAttempts = options.RetryAttempts,
+                Delay = options.RetryDelay,
+                MaxDelay = options.MaxRetryDelay,
+                BackoffType = DelayBackoffType.Exponential,
+                UseJitter = true,
+            })
+            .AddCircuitBreaker(new CircuitBreakerStrategyOptions
+            {
+                ShouldHandle = handled,
+                FailureRatio = options.FailureRatio,
+                MinimumThroughput = options.MinimumThroughput,
+                SamplingDuration = options.SamplingDuration,
+                BreakDuration = options.BreakDuration,
+                OnOpened = args =>
+                {
+                    LogCircuitOpened(_logger, args.BreakDuration);
+                    SetState(ForwarderState.CircuitOpen);
+                    return ValueTask.CompletedTask;
+                },
+                OnClosed = _ =>
+                {
+                    LogCircuitClosed(_logger);
+                    return ValueTask.CompletedTask;
+                },
+            })
+            .ConfigureTelemetry(loggerFactory)
+            .Build();
+        outbox.Appended += Wake;
+    }
+
+    /// <summary>Raised when <see cref="State"/> changes.</summary>
+    public event Action<ForwarderState>? StateChanged;
+
+    /// <summary>Raised after each batch the server accepted, with its size.</summary>
+    public event Action<int>? BatchForwarded;
+
+    public ForwarderState State { get { lock (_gate) { return _state; } } }
+
+    /// <summary>Points forwarded since start.</summary>
+    public long Forwarded => Interlocked.Read(ref _forwarded);
+
+    /// <summary>Attempts that failed after their retries, since start.</summary>
+    public long Failures => Interlocked.Read(ref _failures);
+
+    /// <summary>The last failure's message (no secrets: the client's message names the address, never the token), or null.</summary>
+    public string? LastError { get { lock (_gate) { return _lastError; } } }
+
+    /// <summary>Clock time of the last accepted batch, or null.</summary>
+    public DateTimeOffset? LastSuccess { get { lock (_gate) { return _lastSuccess; } } }
+
+    /// <summary>Forwards until cancelled; returns then (what is left stays in the outbox).</summary>
+    /// <remarks>
+    /// One request is in flight at a time, in the outbox's order. While it is, the batch before it (already accepted)
+    /// is removed from the outbox, so the local commit overlaps the network. After a failure the forwarder starts
+    /// again from the oldest point still held.
+    /// </remarks>
+    public async Task RunAsync(CancellationToken cancellationToken)
+    {
+        long after = long.MinValue;
+        long? toRemove = null;
+        while (!cancellationToken.IsCancellationRequested)
+        {
+            IReadOnlyList<OutboxEntry> batch = _outbox.Peek(_options.BatchSize, after);
+            if (batch.Count == 0)
+            {
+                if (toRemove is { } done)
+                {
+                    _outbox.Remove(done);
+                    toRemove = null;
+                    continue;
+                }
+
+                SetState(ForwarderState.Idle);
+                await WaitAsync(_options.IdlePoll, wakeable: true, cancellationToken).ConfigureAwait(false);
+                continue;
+            }
+
+            var lines = new string[batch.Count];
+            for (int i = 0; i < batch.Count; i++)
+            {
+                lines[i] = batch[i].Line;
+            }
+
+            Task send = _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).AsTask();
+            if (toRemove is { } accepted)
+            {
+                _outbox.Remove(accepted);
+                toRemove = null;
+            }
+
+            try
+            {
+                await send.ConfigureAwait(false);
+            }
+            catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
+            {
+                return;
+            }
+            catch (Exception e)
+            {
+                Interlocked.Increment(ref _failures);
+                lock (_gate)
+                {
+                    _lastError = e.Message;
+                }
+
+                after = long.MinValue;
+                LogForwardFailed(_logger, batch.Count, _outbox.PendingRecords, e.Message);
+                SetState(e is BrokenCircuitException ? ForwarderState.CircuitOpen : ForwarderState.Failing);
+                await WaitAsync(_options.PauseAfterFailure, wakeable: false, cancellationToken).ConfigureAwait(false);
+                continue;
+            }
+
+            after = batch[^1].Id;
+            toRemove = after;
+            Interlocked.Add(ref _forwarded, batch.Count);
+            bool recovered;
+            lock (_gate)
+            {
+                _lastSuccess = _time.GetUtcNow();
+                recovered = _state is ForwarderState.Failing or ForwarderState.CircuitOpen;
+            }
+
+            if (recovered)
+            {
+                LogForwardResumed(_logger, _outbox.PendingRecords);
+            }
+
+            SetState(ForwarderState.Forwarding);
+            BatchForwarded?.Invoke(batch.Count);
+        }
+
+        if (toRemove is { } last)
+        {
+            _outbox.Remove(last);
+        }
+    }
+
+    private void Wake()
+    {
+        lock (_gate)
+        {
+            _pendingWake = true;
+            _wake?.Cancel();
+        }
+    }
+
+    private async Task WaitAsync(TimeSpan delay, bool wakeable, CancellationToken cancellationToken)
+    {
+        CancellationTokenSource linked;
+        lock (_gate)
+        {
+            if (wakeable && _pendingWake)
+            {
+                _pendingWake = false;
+                return;
+            }
+
+            linked = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
+            if (wakeable)
+            {
+                _wake = linked;
+            }
+        }
+
+        try
+        {
+            await Task.Delay(delay, _time, linked.Token).ConfigureAwait(false);
+        }
+        catch (OperationCanceledException)
+        {
+            // Woken by an append, or stopping: the loop looks at the token.
+        }
+        finally
+        {
+            lock (_gate)
+            {
+                if (ReferenceEquals(_wake, linked))
+                {
+                    _wake = null;
+                }
+
+                if (wakeable)
+                {
+                    _pendingWake = false;
+                }
+            }
+
+            linked.Dispose();
+        }
+    }
+
+    private void SetState(ForwarderState state)
+    {
+        bool changed;
+        lock (_gate)
+        {
+            changed = _state != state;
+            _state = state;
+        }
+
+        if (changed)
+        {
+            StateChanged?.Invoke(state);
+        }
+    }
+
+    [LoggerMessage(EventId = 3101, Level = LogLevel.Warning, Message = "Could not forward {Count} points to the time-series server ({Error}); {Pending} points wait in the outbox")]
+    private static partial void LogForwardFailed(ILogger logger, int count, long pending, string error);
+
+    [LoggerMessage(EventId = 3102, Level = LogLevel.Information, Message = "Forwarding to the time-series server again; {Pending} points wait in the outbox")]
+    private static partial void LogForwardResumed(ILogger logger, long pending);
+
+    [LoggerMessage(EventId = 3103, Level = LogLevel.Warning, Message = "Circuit to the time-series server opened for {BreakDuration} after repeated failures")]
+    private static partial void LogCircuitOpened(ILogger logger, TimeSpan breakDuration);
+
+    [LoggerMessage(EventId = 3104, Level = LogLevel.Information, Message = "Circuit to the time-series server closed")]
+    private static partial void LogCircuitClosed(ILogger logger);
+}

@@ -1,0 +1,27 @@
+namespace Tieflow.Storage.Tests;
+
+/// <summary>A temporary folder, deleted on dispose.</summary>
+internal sealed class TempFolder : IDisposable
+{
+    public TempFolder()
+    {
+        Path = System.IO.Path.Combine(System.IO.Path.GetTempPath(), "tieflow-storage-" + Guid.NewGuid().ToString("N")[..12]);
+        Directory.CreateDirectory(Path);
+    }
+
+    public string Path { get; }
+
+    public string File(string name) => System.IO.Path.Combine(Path, name);
+
+    public void Dispose()
+    {
+        try
+        {
+            Directory.Delete(Path, recursive: true);
+        }
+        catch (IOException)
+        {
+            // A leftover temporary folder is harmless.
+        }
+    }
+}
