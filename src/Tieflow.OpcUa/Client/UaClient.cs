@@ -1,19 +1,19 @@
 using System.Collections.Concurrent;
-using System.Security.Cryptography;
 using Tieflow.OpcUa.Encoding;
 using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Client;
 
 /// <summary>
-/// A read-only OPC UA client (SecurityPolicy None, UA Binary over opc.tcp): browse, translate browse paths, read,
+/// A read-only OPC UA client (UA Binary over opc.tcp; SecurityPolicy None or the RSA policies Basic256Sha256,
+/// Aes128_Sha256_RsaOaep and Aes256_Sha256_RsaPss in Sign or SignAndEncrypt, see <see cref="UaClientOptions.Security"/>): browse, translate browse paths, read,
 /// and subscriptions whose notifications arrive on channels. The connection heals itself: every request has a
 /// timeout, a keep-alive watchdog notices a silent server, and a lost connection is re-established with backoff
 /// in the specification's order (reactivate the session, else a new session with TransferSubscriptions, else
 /// recreate the subscriptions), with namespace indexes re-resolved by URI and gaps reported on each subscription.
 /// Writing and calling methods are not possible: the client has no such requests.
 /// </summary>
-public sealed class UaClient : IAsyncDisposable
+public sealed partial class UaClient : IAsyncDisposable
 {
     private const string TransportProfileUri = "http://opcfoundation.org/UA-Profile/Transport/uatcp-uasc-uabinary";
     private readonly UaClientOptions _options;
@@ -25,7 +25,6 @@ public sealed class UaClient : IAsyncDisposable
     private ClientSecureChannel? _channel;
     private NodeId _authenticationToken;
     private string[] _namespaceUris = [];
-    private UserTokenPolicy? _tokenPolicy;
     private CancellationTokenSource? _publishing;
     private ITimer? _watchdog;
     private Task? _reconnect;
@@ -89,164 +88,6 @@ public sealed class UaClient : IAsyncDisposable
     {
         _state = state;
         StateChanged?.Invoke(this, new UaConnectionStateChange(state, _time.GetUtcNow().UtcDateTime, reason, message));
-    }
-
-    private ClientChannelSettings ChannelSettings => new()
-    {
-        EndpointUrl = _options.EndpointUrl,
-        Limits = _options.Transport,
-        ConnectTimeout = _options.ConnectTimeout,
-        RequestedTokenLifetime = _options.TokenLifetime,
-        ChannelRequestTimeout = _options.RequestTimeout,
-    };
-
-    /// <summary>Opens a channel and a session. On a reconnect the old session is reactivated when the server still has it.</summary>
-    /// <returns>True when an existing session was reactivated.</returns>
-    private async Task<bool> EstablishAsync(bool reconnect, CancellationToken cancellationToken)
-    {
-        var channel = new ClientSecureChannel(ChannelSettings, _time);
-        try
-        {
-            await channel.OpenAsync(cancellationToken).ConfigureAwait(false);
-            var endpoints = await channel.SendAsync<GetEndpointsResponse>(new GetEndpointsRequest
-            {
-                RequestHeader = channel.NewHeader(NodeId.Null, _options.RequestTimeout),
-                EndpointUrl = _options.EndpointUrl.OriginalString,
-                ProfileUris = [TransportProfileUri],
-            }, _options.RequestTimeout, cancellationToken).ConfigureAwait(false);
-            var endpoint = ChooseEndpoint(endpoints.Endpoints);
-            _tokenPolicy = ChooseTokenPolicy(endpoint);
-
-            var restored = false;
-            if (reconnect && !_authenticationToken.IsNull)
-            {
-                try
-                {
-                    await ActivateAsync(channel, cancellationToken).ConfigureAwait(false);
-                    restored = true;
-                }
-                catch (ServiceResultException ex) when (!IsConnectionFailure(ex.Status))
-                {
-                    // The server lost the session (BadSessionIdInvalid after a restart): create a new one below.
-                }
-            }
-
-            if (!restored)
-            {
-                var create = await channel.SendAsync<CreateSessionResponse>(new CreateSessionRequest
-                {
-                    RequestHeader = channel.NewHeader(NodeId.Null, _options.RequestTimeout),
-                    ClientDescription = new ApplicationDescription
-                    {
-                        ApplicationUri = _options.ApplicationUri,
-                        ProductUri = "urn:tieflow",
-                        ApplicationName = new LocalizedText(_options.ApplicationName),
-                        ApplicationType = ApplicationType.Client,
-                    },
-                    EndpointUrl = _options.EndpointUrl.OriginalString,
-                    SessionName = _options.SessionName,
-                    ClientNonce = RandomNumberGenerator.GetBytes(32),
-                    RequestedSessionTimeout = _options.SessionTimeout.TotalMilliseconds,
-                    MaxResponseMessageSize = 0,
-                }, _options.RequestTimeout, cancellationToken).ConfigureAwait(false);
-                _authenticationToken = create.AuthenticationToken;
-                await ActivateAsync(channel, cancellationToken).ConfigureAwait(false);
-            }
-
-            var old = Interlocked.Exchange(ref _channel, channel);
-            if (old is not null)
-            {
-                await old.DisposeAsync().ConfigureAwait(false);
-            }
-
-            _ = WatchChannelAsync(channel);
-            _namespaceUris = await ReadNamespaceArrayAsync(cancellationToken).ConfigureAwait(false);
-            return restored;
-        }
-        catch
-        {
-            await channel.DisposeAsync().ConfigureAwait(false);
-            throw;
-        }
-    }
-
-    private async Task WatchChannelAsync(ClientSecureChannel channel)
-    {
-        var failure = await channel.Completion.ConfigureAwait(false);
-        if (ReferenceEquals(_channel, channel) && !_closing.IsCancellationRequested)
-        {
-            TriggerReconnect(failure?.Status ?? StatusCodes.BadSecureChannelClosed, failure?.Message ?? "The secure channel closed");
-        }
-    }
-
-    private static EndpointDescription ChooseEndpoint(EndpointDescription[] endpoints)
-    {
-        // Chosen by mode, policy and transport, never by the advertised host (digest §1.6, §5).
-        var none = endpoints.Where(e => e.SecurityMode == MessageSecurityMode.None
-                && string.Equals(e.SecurityPolicyUri, SecureChannelCodec.SecurityPolicyNoneUri, StringComparison.Ordinal)
-                && (string.IsNullOrEmpty(e.TransportProfileUri) || string.Equals(e.TransportProfileUri, TransportProfileUri, StringComparison.Ordinal)))
-            .ToArray();
-        if (none.Length == 0)
-        {
-            throw new ServiceResultException(StatusCodes.BadSecurityPolicyRejected,
-                $"The server offers no SecurityPolicy None endpoint ({endpoints.Length} endpoints); signed and encrypted channels come with the security work");
-        }
-
-        return none[0];
-    }
-
-    private UserTokenPolicy ChooseTokenPolicy(EndpointDescription endpoint)
-    {
-        var identity = _options.Identity;
-        if (identity.TokenType == UserTokenType.Anonymous)
-        {
-            return endpoint.UserIdentityTokens.FirstOrDefault(p => p.TokenType == UserTokenType.Anonymous)
-                ?? throw new ServiceResultException(StatusCodes.BadIdentityTokenRejected, $"The server's None endpoint {endpoint.EndpointUrl} offers no anonymous login; give a user name");
-        }
-
-        var policies = endpoint.UserIdentityTokens.Where(p => p.TokenType == UserTokenType.UserName).ToArray();
-        if (policies.Length == 0)
-        {
-            throw new ServiceResultException(StatusCodes.BadIdentityTokenRejected, $"The server's None endpoint {endpoint.EndpointUrl} offers no user name login");
-        }
-
-        // The token policy's security policy applies, or the channel's when it is empty (OPC 10000-4 §7.42).
-        var plain = policies.FirstOrDefault(p => string.IsNullOrEmpty(p.SecurityPolicyUri)
-            || string.Equals(p.SecurityPolicyUri, SecureChannelCodec.SecurityPolicyNoneUri, StringComparison.Ordinal));
-        if (plain is null)
-        {
-            throw new ServiceResultException(StatusCodes.BadSecurityPolicyRejected,
-                $"The server requires the password of {identity} to be encrypted with {policies[0].SecurityPolicyUri}; encrypted user name tokens come with the security work (only SecurityPolicy None is implemented)");
-        }
-
-        return plain;
-    }
-
-    private async Task ActivateAsync(ClientSecureChannel channel, CancellationToken cancellationToken)
-    {
-        IEncodeable token = _options.Identity.TokenType == UserTokenType.Anonymous
-            ? new AnonymousIdentityToken { PolicyId = _tokenPolicy!.PolicyId }
-            : new UserNameIdentityToken
-            {
-                PolicyId = _tokenPolicy!.PolicyId,
-                UserName = _options.Identity.UserName,
-                Password = System.Text.Encoding.UTF8.GetBytes(_options.Identity.Password),
-                EncryptionAlgorithm = null,
-            };
-        try
-        {
-            await channel.SendAsync<ActivateSessionResponse>(new ActivateSessionRequest
-            {
-                RequestHeader = channel.NewHeader(_authenticationToken, _options.RequestTimeout),
-                LocaleIds = ["en"],
-                UserIdentityToken = new ExtensionObject(new NodeId(token.BinaryEncodingId), ExtensionObjectEncoding.Binary, token),
-            }, _options.RequestTimeout, cancellationToken).ConfigureAwait(false);
-        }
-        catch (ServiceResultException ex)
-        {
-            // The message names the identity (user name only) and the status; never the password.
-            throw new ServiceResultException(ex.Status, $"ActivateSession as {_options.Identity} failed", ex);
-        }
     }
 
     private async Task<string[]> ReadNamespaceArrayAsync(CancellationToken cancellationToken)
