@@ -152,6 +152,15 @@ internal sealed class ServerConnection
         var body = MessageCodec.Encode(response);
         lock (_sendLock)
         {
+            if (_closing != 0)
+            {
+                return;
+            }
+            if (!_tokens.IsAccepted(_codec.SendTokenId))
+            {
+                // The old token expired before the client used the new one: the newest secures responses now.
+                _codec.SendTokenId = _tokens.CurrentTokenId;
+            }
             List<byte[]> chunks;
             try
             {
@@ -171,6 +180,12 @@ internal sealed class ServerConnection
                 };
                 chunks = _codec.EncodeChunks(TcpMessageType.Message, requestId, MessageCodec.Encode(fault), StatusCodes.BadResponseTooLarge);
             }
+            catch (ServiceResultException e)
+            {
+                // The channel cannot secure the response (its keys are gone): it is unusable; the client reconnects.
+                SendErrorAndCloseLocked(e.Status, "the response cannot be secured: " + e.Message);
+                return;
+            }
             foreach (var chunk in chunks)
             {
                 _outgoing.Writer.TryWrite(chunk);
@@ -179,7 +194,9 @@ internal sealed class ServerConnection
     }
 
     /// <summary>Sends an ERR message, then closes the socket once it is written.</summary>
-    public void SendErrorAndClose(StatusCode status, string reason)
+    public void SendErrorAndClose(StatusCode status, string reason) => SendErrorAndCloseLocked(status, reason);
+
+    private void SendErrorAndCloseLocked(StatusCode status, string reason)
     {
         if (Interlocked.Exchange(ref _closing, 1) != 0)
         {
@@ -310,12 +327,12 @@ internal sealed class ServerConnection
         }
         var lifetime = request.RequestedLifetime == 0 ? 600_000u : Math.Clamp(request.RequestedLifetime, 1_000u, 3_600_000u);
         var tokenId = ++_lastTokenId;
-        _tokens.Add(tokenId, TimeSpan.FromMilliseconds(lifetime));
-        Security.AddToken(tokenId, request.ClientNonce ?? [], serverNonce);
-        Security.PruneTokens(_tokens.IsAccepted);
         var now = _engine.Now;
         lock (_sendLock)
         {
+            _tokens.Add(tokenId, TimeSpan.FromMilliseconds(lifetime));
+            Security.AddToken(tokenId, request.ClientNonce ?? [], serverNonce);
+            Security.PruneTokens(_tokens.IsAccepted);
             if (issue)
             {
                 _codec.ChannelId = _engine.NextChannelId();

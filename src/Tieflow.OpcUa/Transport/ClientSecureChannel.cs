@@ -435,9 +435,9 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
                     _sendLock.Release();
                 }
             }
-            catch (Exception ex) when (ex is IOException or ObjectDisposedException or OperationCanceledException or SocketException)
+            catch (Exception ex) when (ex is IOException or ObjectDisposedException or OperationCanceledException or SocketException or ServiceResultException)
             {
-                // The peer is already gone: nothing more to close politely.
+                // The peer is already gone (or the channel can no longer secure a message): nothing more to close politely.
             }
         }
 
