@@ -50,13 +50,14 @@ public sealed class UaCertificateStore
 
     /// <summary>
     /// Loads this application's certificate with its private key, creating a self-signed one on first use (RSA
-    /// 2048, SHA-256, the application URI and host names in the subject alternative name, valid for 5 years). A
-    /// certificate that has expired or names another application URI is replaced.
+    /// 2048, SHA-256, the application URI and host names in the subject alternative name, valid for 5 years). An
+    /// expired certificate is replaced.
     /// </summary>
     /// <param name="applicationUri">The application URI (put in the SAN; must match the one sent in CreateSession).</param>
     /// <param name="applicationName">The common name.</param>
     /// <param name="hostNames">DNS names and IP addresses for the SAN (default this machine's host name and localhost).</param>
     /// <returns>The certificate with its private key.</returns>
+    /// <exception cref="InvalidOperationException">The stored certificate names another application URI.</exception>
     public X509Certificate2 GetOrCreateApplicationCertificate(string applicationUri, string applicationName, IReadOnlyList<string>? hostNames = null)
     {
         ArgumentException.ThrowIfNullOrEmpty(applicationUri);
@@ -67,7 +68,15 @@ public sealed class UaCertificateStore
         {
             using var loaded = X509CertificateLoader.LoadCertificate(File.ReadAllBytes(certificatePath));
             var now = _time.GetUtcNow().UtcDateTime;
-            if (loaded.NotAfter.ToUniversalTime() > now && CertificateInfo.ApplicationUris(loaded).Contains(applicationUri, StringComparer.Ordinal))
+            if (!CertificateInfo.ApplicationUris(loaded).Contains(applicationUri, StringComparer.Ordinal))
+            {
+                // Never replaced silently: servers may trust this certificate already.
+                throw new InvalidOperationException(
+                    $"{certificatePath} names application URI {string.Join(", ", CertificateInfo.ApplicationUris(loaded))}, not {applicationUri}; " +
+                    $"use another store folder, or delete {certificatePath} and {keyPath} to create a new certificate (servers must then trust the new one)");
+            }
+
+            if (loaded.NotAfter.ToUniversalTime() > now)
             {
                 using var rsa = RSA.Create();
                 rsa.ImportFromPem(File.ReadAllText(keyPath));
