@@ -120,11 +120,14 @@ public sealed partial class UaClient
             X509Certificate2? serverCertificate = null;
             if (endpoint.SecurityMode != MessageSecurityMode.None || tokenSecurity is not null)
             {
-                serverCertificate = CheckServerCertificate(endpoint);
+                // Our own certificate first: on the first connection the operator gets it in the store (to give to the
+                // server's administrator) in the same step in which the server's lands in rejected/.
                 if (endpoint.SecurityMode != MessageSecurityMode.None)
                 {
                     _ownCertificate ??= OwnCertificate();
                 }
+
+                serverCertificate = CheckServerCertificate(endpoint);
             }
 
             _endpoint = endpoint;

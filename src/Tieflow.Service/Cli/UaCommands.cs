@@ -89,23 +89,41 @@ internal static class UaCommands
         return command;
     }
 
-    /// <summary>Maps the failures of the ua commands to their exit codes; everything else goes to <see cref="CommandRunner"/>.</summary>
-    internal static int Run(CliContext context, Func<int> handler) => CommandRunner.Run(context, () =>
+    private static int RunAndWarn(CliContext context, Func<int> handler)
     {
+        var exit = ExitCodes.RuntimeFailure;
         try
         {
-            return handler();
+            exit = handler();
+            return exit;
         }
         catch (UaCliException e)
         {
             context.Error.WriteLine(e.ExitCode == ExitCodes.BadInput ? $"error: {e.Message}" : $"failed: {e.Message}");
-            return e.ExitCode;
+            exit = e.ExitCode;
+            return exit;
         }
         catch (ServiceResultException e)
         {
             // The server answered but refused the request (unknown node, access denied...).
             context.Error.WriteLine($"failed: {e.Message} ({e.Status})");
-            return ExitCodes.RuntimeFailure;
+            return exit;
         }
-    });
+        finally
+        {
+            if (DeferredWarnings.TryGetValue(context, out var warnings))
+            {
+                context.Error.Write(warnings.ToString());
+                DeferredWarnings.Remove(context);
+            }
+        }
+    }
+
+    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<CliContext, StringWriter> DeferredWarnings = [];
+
+    /// <summary>Warnings of a browse or read (connected without security...), printed on stderr after the result or the error line.</summary>
+    internal static TextWriter Warnings(CliContext context) => DeferredWarnings.GetValue(context, _ => new StringWriter());
+
+    /// <summary>Maps the failures of the ua commands to their exit codes; everything else goes to <see cref="CommandRunner"/>.</summary>
+    internal static int Run(CliContext context, Func<int> handler) => CommandRunner.Run(context, () => RunAndWarn(context, handler));
 }
