@@ -126,6 +126,81 @@ public sealed class SecuredInteropTests(SecurePlantPeerFixture fixture) : IClass
         Assert.Equal(5, changes);
     }
 
+    [Fact]
+    public async Task OurClient_NodeServer_ShortTokenLifetime_RenewsUnderSignAndEncryptWithoutReconnecting()
+    {
+        var store = await TrustingStoreAsync();
+        await using var client = new UaClient(Options(store, UaSecurity.Parse("SignAndEncrypt:Basic256Sha256")) with { TokenLifetime = TimeSpan.FromSeconds(3) });
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new Tieflow.OpcUa.Client.SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(250) },
+            [new MonitoredNode { Node = ExpandedNodeId.Parse("nsu=urn:example:plant-sim;s=Plant.Unit1.Ramp"), Key = "ramp" }]);
+        var last = DateTime.MinValue;
+        var changes = 0;
+        using var cts = new CancellationTokenSource(TimeSpan.FromSeconds(9));
+        try
+        {
+            await foreach (var e in subscription.Events.ReadAllAsync(cts.Token))
+            {
+                Assert.IsNotType<UaDataGap>(e);
+                if (e is UaDataChange change)
+                {
+                    changes++;
+                    last = change.SourceTime;
+                }
+            }
+        }
+        catch (OperationCanceledException)
+        {
+            // Nine seconds: three renewals of a 3 s token at 75 %.
+        }
+
+        Assert.True(changes >= 10, $"only {changes} changes in 9 s");
+        Assert.Equal(0, client.ReconnectCount);
+        Assert.Equal(UaConnectionState.Connected, client.State);
+        var values = await client.ReadAsync([NodeId.Parse("ns=2;s=Plant.Unit1.Constant")]);
+        Assert.Equal(42.0, (double)values[0].Value.Value!, 12);
+    }
+
+    [Fact]
+    public async Task OurClient_SecuredNodeServerRestarted_ReconnectsUnderTheSameSecurity()
+    {
+        using var peerPki = new TempFolder();
+        using var peer = await NodePeer.StartServerAsync("--tick", "100", "--secure", "--pki", peerPki.Path);
+        var store = new UaCertificateStore(_pki.Path);
+        var url = new Uri(peer.EndpointUrl.Replace("127.0.0.1", "localhost", StringComparison.Ordinal));
+        var options = Options(store, UaSecurity.Parse("SignAndEncrypt:Aes256_Sha256_RsaPss"), url: url) with
+        {
+            ReconnectMinDelay = TimeSpan.FromMilliseconds(250),
+            ReconnectMaxDelay = TimeSpan.FromSeconds(1),
+            KeepAliveMargin = TimeSpan.FromSeconds(1),
+            RequestTimeout = TimeSpan.FromSeconds(3),
+        };
+        await using (var first = new UaClient(options))
+        {
+            store.Trust((await Assert.ThrowsAsync<UaCertificateException>(() => first.ConnectAsync())).Thumbprint);
+        }
+
+        await using var client = new UaClient(options);
+        await client.ConnectAsync();
+        await using var subscription = await client.SubscribeAsync(new Tieflow.OpcUa.Client.SubscriptionSettings { PublishingInterval = TimeSpan.FromMilliseconds(250), MaxKeepAliveCount = 4 },
+            [new MonitoredNode { Node = ExpandedNodeId.Parse("nsu=urn:example:plant-sim;s=Plant.Unit1.Ramp"), Key = "ramp", QueueSize = 10 }]);
+        await peer.RestartAsync();
+        using var cts = new CancellationTokenSource(TimeSpan.FromSeconds(20));
+        var gap = false;
+        await foreach (var e in subscription.Events.ReadAllAsync(cts.Token))
+        {
+            gap |= e is UaDataGap;
+            if (gap && e is UaDataChange)
+            {
+                break;
+            }
+        }
+
+        Assert.True(client.ReconnectCount >= 1);
+        Assert.Equal("SignAndEncrypt:Aes256_Sha256_RsaPss", client.Security!.ToString());
+        Assert.Equal(UaConnectionState.Connected, client.State);
+    }
+
     private static async Task<UaServer> SecuredServerAsync(UaCertificateStore store)
     {
         var server = new UaServer(new UaServerOptions
