@@ -179,7 +179,15 @@ public sealed partial class UaClient
 
         var store = _options.CertificateStore ?? throw new ServiceResultException(StatusCodes.BadConfigurationError,
             $"A secured connection to {_options.EndpointUrl} needs a certificate store (UaClientOptions.CertificateStore) to check the server's certificate");
-        store.Validate(certificate, endpoint.Server.ApplicationUri, _options.EndpointUrl.IdnHost);
+        try
+        {
+            store.Validate(certificate, endpoint.Server.ApplicationUri, _options.EndpointUrl.IdnHost);
+        }
+        catch (CryptographicException)
+        {
+            throw new ServiceResultException(StatusCodes.BadCertificateInvalid, $"The server certificate of {_options.EndpointUrl} has a key that cannot be read");
+        }
+
         return certificate;
     }
 

@@ -340,7 +340,17 @@ internal sealed class ChannelSecurity
             throw Failed("the OPN chunk is too short for its signature");
         }
 
-        if (!RemoteKey.VerifyData(signed.AsSpan(0, end), signed.AsSpan(end, signatureLength), HashAlgorithmName.SHA256, policy.AsymmetricSignature))
+        bool valid;
+        try
+        {
+            valid = RemoteKey.VerifyData(signed.AsSpan(0, end), signed.AsSpan(end, signatureLength), HashAlgorithmName.SHA256, policy.AsymmetricSignature);
+        }
+        catch (CryptographicException)
+        {
+            valid = false;
+        }
+
+        if (!valid)
         {
             throw Failed("the OPN signature is not valid");
         }
@@ -436,7 +446,14 @@ internal sealed class ChannelSecurity
             return false;
         }
 
-        return RemoteKey!.VerifyData(Concat(parts), signature.Signature, HashAlgorithmName.SHA256, Policy.AsymmetricSignature);
+        try
+        {
+            return RemoteKey!.VerifyData(Concat(parts), signature.Signature, HashAlgorithmName.SHA256, Policy.AsymmetricSignature);
+        }
+        catch (CryptographicException)
+        {
+            return false;
+        }
     }
 
     internal static byte[] Concat(ReadOnlySpan<byte[]> parts)

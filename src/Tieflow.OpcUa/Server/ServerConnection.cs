@@ -404,12 +404,17 @@ internal sealed class ServerConnection
         try
         {
             _engine.ValidateClientCertificate(certificate);
+            Security.SetPolicy(policy, certificate);
         }
         catch (ServiceResultException e) when (e is not UaDecodingException)
         {
             throw new UaDecodingException(e.Status, e.Message);
         }
-        Security.SetPolicy(policy, certificate);
+        catch (CryptographicException)
+        {
+            // A certificate that parses but whose key does not (or is not RSA).
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "the client certificate's key cannot be read");
+        }
     }
 
     /// <summary>Checks the mode and nonce of an OPN request and returns the server nonce.</summary>

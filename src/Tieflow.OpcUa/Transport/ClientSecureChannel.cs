@@ -350,6 +350,11 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         {
             Fail(new ServiceResultException(StatusCodes.BadConnectionClosed, "The connection failed: " + ex.Message, ex));
         }
+        catch (CryptographicException)
+        {
+            // Never crash the receive loop on what a peer sent; the message names no key material.
+            Fail(new ServiceResultException(StatusCodes.BadSecurityChecksFailed, "A chunk from the server failed the security checks"));
+        }
     }
 
     /// <summary>
