@@ -57,6 +57,9 @@ public sealed partial class UaClient : IAsyncDisposable
     /// <summary>The server's NamespaceArray as read after the last (re)connection.</summary>
     public IReadOnlyList<string> NamespaceUris => _namespaceUris;
 
+    /// <summary>The client's clock (UTC).</summary>
+    internal DateTime UtcNow => _time.GetUtcNow().UtcDateTime;
+
     /// <summary>How many times the connection has been re-established.</summary>
     public int ReconnectCount { get; private set; }
 
@@ -265,12 +268,17 @@ public sealed partial class UaClient : IAsyncDisposable
     /// <param name="nodes">The nodes to monitor (keys must be unique).</param>
     /// <param name="cancellationToken">Cancels the call.</param>
     /// <returns>The subscription; read <see cref="UaSubscription.Events"/>.</returns>
-    /// <exception cref="ArgumentException">Two nodes have the same key.</exception>
+    /// <exception cref="ArgumentException">Two nodes have the same key, or the event queue capacity is not positive.</exception>
     /// <exception cref="ServiceResultException">The server refused the subscription or the client is not connected.</exception>
     public async Task<UaSubscription> SubscribeAsync(SubscriptionSettings settings, IEnumerable<MonitoredNode> nodes, CancellationToken cancellationToken = default)
     {
         ArgumentNullException.ThrowIfNull(settings);
         ArgumentNullException.ThrowIfNull(nodes);
+        if (settings.EventQueueCapacity < 1)
+        {
+            throw new ArgumentException($"SubscriptionSettings.EventQueueCapacity is {settings.EventQueueCapacity}; expected at least 1.", nameof(settings));
+        }
+
         var subscription = new UaSubscription(this, settings);
         await CreateOnServerAsync(subscription, cancellationToken).ConfigureAwait(false);
         lock (_subscriptions)
