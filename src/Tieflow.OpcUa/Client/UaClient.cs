@@ -1,4 +1,6 @@
 using System.Collections.Concurrent;
+using System.Diagnostics;
+using Tieflow.OpcUa.Diagnostics;
 using Tieflow.OpcUa.Encoding;
 using Tieflow.OpcUa.Transport;
 
@@ -71,12 +73,20 @@ public sealed partial class UaClient : IAsyncDisposable
     {
         ObjectDisposedException.ThrowIf(_closing.IsCancellationRequested, this);
         SetState(UaConnectionState.Connecting, StatusCodes.Good, $"Connecting to {_options.EndpointUrl}");
+        using var activity = UaDiagnostics.ActivitySource.StartActivity("connect");
+        activity?.SetTag("server.address", _options.EndpointUrl.Host);
+        var started = _time.GetTimestamp();
         try
         {
             await EstablishAsync(false, cancellationToken).ConfigureAwait(false);
+            var security = new KeyValuePair<string, object?>("security", Security?.ToString());
+            UaDiagnostics.Connects.Add(1, security);
+            UaDiagnostics.ConnectDuration.Record(_time.GetElapsedTime(started).TotalMilliseconds, security);
+            activity?.SetTag("security", Security?.ToString());
         }
-        catch
+        catch (Exception ex)
         {
+            activity?.SetStatus(ActivityStatusCode.Error, ex.GetType().Name);
             SetState(UaConnectionState.Disconnected, StatusCodes.BadNotConnected, $"Connecting to {_options.EndpointUrl} failed");
             throw;
         }
@@ -280,6 +290,7 @@ public sealed partial class UaClient : IAsyncDisposable
         }
 
         var subscription = new UaSubscription(this, settings);
+        UaDiagnostics.Track(subscription);
         await CreateOnServerAsync(subscription, cancellationToken).ConfigureAwait(false);
         lock (_subscriptions)
         {
@@ -563,9 +574,11 @@ public sealed partial class UaClient : IAsyncDisposable
                 var timeout = PublishTimeout();
                 var request = new PublishRequest { RequestHeader = channel.NewHeader(_authenticationToken, timeout - _options.RequestTimeout), SubscriptionAcknowledgements = [.. acks] };
                 PublishResponse response;
+                var sent = _time.GetTimestamp();
                 try
                 {
                     response = await channel.SendAsync<PublishResponse>(request, timeout, cancellationToken, completeOnReceiveThread: true).ConfigureAwait(false);
+                    UaDiagnostics.PublishLatency.Record(_time.GetElapsedTime(sent).TotalMilliseconds);
                 }
                 catch (ServiceResultException ex)
                 {
@@ -803,6 +816,7 @@ public sealed partial class UaClient : IAsyncDisposable
         }
 
         var delay = _options.ReconnectMinDelay;
+        using var activity = UaDiagnostics.ActivitySource.StartActivity("reconnect");
         while (!_closing.IsCancellationRequested)
         {
             try
@@ -810,6 +824,8 @@ public sealed partial class UaClient : IAsyncDisposable
                 var restored = await EstablishAsync(true, _closing.Token).ConfigureAwait(false);
                 await RecoverSubscriptionsAsync(restored, lostAt, _closing.Token).ConfigureAwait(false);
                 ReconnectCount++;
+                UaDiagnostics.Reconnects.Add(1, new KeyValuePair<string, object?>("security", Security?.ToString()));
+                activity?.SetTag("restored", restored);
                 Volatile.Write(ref _reconnecting, 0);
                 _publishTarget = Math.Max(_publishTarget, 1);
                 SetState(UaConnectionState.Connected, StatusCodes.Good, restored ? "Reconnected; the session was reactivated" : "Reconnected with a new session");

@@ -1,4 +1,5 @@
 using System.Threading.Channels;
+using Tieflow.OpcUa.Diagnostics;
 using Tieflow.OpcUa.Encoding;
 
 namespace Tieflow.OpcUa.Client;
@@ -161,6 +162,8 @@ public sealed class UaSubscription : IAsyncDisposable
             Write(new UaDataChange(item.Key, item.Request.Node, v.Value, v.Status, v.SourceTimestamp, v.ServerTimestamp));
         }
 
+        UaDiagnostics.Notifications.Add(notification.MonitoredItems.Length);
+
         FlushDrops();
     }
 
@@ -182,6 +185,7 @@ public sealed class UaSubscription : IAsyncDisposable
                 case UaDataChange change:
                     Interlocked.Increment(ref _dropped);
                     Interlocked.Increment(ref _droppedTotal);
+                    UaDiagnostics.Dropped.Add(1);
                     var t = change.ServerTime != DateTime.MinValue ? change.ServerTime : change.SourceTime;
                     if (t != DateTime.MinValue)
                     {
