@@ -111,6 +111,33 @@ public sealed class SecuredLoopbackTests : IAsyncLifetime
         Assert.DoesNotContain(_clientStore.List(), c => c.Folder == "rejected");
     }
 
+    [Fact]
+    public async Task ServerWithATrustList_RefusesAnUnknownClientUntilItIsTrusted()
+    {
+        using var pki = new TempFolder();
+        var serverStore = new UaCertificateStore(pki.Path);
+        await using var server = new UaServer(new UaServerOptions
+        {
+            Security = UaServerSecurityOptions.FromStore(serverStore, "urn:tieflow:opcua-server", "Strict server", ["127.0.0.1"]),
+        });
+        await server.StartAsync();
+        _clientStore.Trust(Path.Combine(serverStore.OwnDirectory, "certificate.der"));
+        var options = Options(UaSecurity.Parse("SignAndEncrypt:Basic256Sha256")) with { EndpointUrl = new Uri(server.EndpointUrl) };
+
+        await using (var refused = new UaClient(options))
+        {
+            var error = await Assert.ThrowsAsync<ServiceResultException>(() => refused.ConnectAsync());
+            Assert.Equal(StatusCodes.BadCertificateUntrusted, error.Status);
+        }
+
+        var rejected = Assert.Single(serverStore.List(), c => c.Folder == "rejected");
+        Assert.Equal(["urn:tieflow:client"], rejected.ApplicationUris);
+        serverStore.Trust(rejected.Thumbprint);
+        await using var accepted = new UaClient(options);
+        await accepted.ConnectAsync();
+        Assert.Equal(UaConnectionState.Connected, accepted.State);
+    }
+
     [Theory]
     [InlineData("SignAndEncrypt:Aes256_Sha256_RsaPss")]
     [InlineData("Sign:Aes128_Sha256_RsaOaep")]
