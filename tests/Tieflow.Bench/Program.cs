@@ -29,6 +29,12 @@ public static class Program
             return;
         }
 
+        if (args.Length > 0 && args[0] == "connect")
+        {
+            await SecuredConnectProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 20);
+            return;
+        }
+
         BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
     }
 }

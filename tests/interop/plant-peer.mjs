@@ -1,6 +1,10 @@
 // Simulated plant served by node-opcua: the independent OPC UA server that Tieflow's client is tested against.
 //
-//   node plant-peer.mjs --port N [--tick ms] [--tags N] [--pki DIR] [--down ms] [--stdin-eof-exit]
+//   node plant-peer.mjs --port N [--tick ms] [--tags N] [--pki DIR] [--down ms] [--stdin-eof-exit] [--secure]
+//                       [--user NAME] (password from TIEFLOW_PEER_PASSWORD)
+//
+// With --secure the server offers None plus Sign and SignAndEncrypt under Basic256Sha256, Aes128_Sha256_RsaOaep and
+// Aes256_Sha256_RsaPss, and accepts every client certificate; with --user it accepts that user name and password.
 //
 // Prints "READY opc.tcp://127.0.0.1:<port>/sim" on stdout once it listens (node-opcua's own diagnostics also go to
 // stdout; our lines start with READY, OK, ERR or "{").
@@ -27,7 +31,7 @@ import path from "node:path";
 import readline from "node:readline";
 
 function parseArgs(argv) {
-  const opts = { port: 0, tick: 200, tags: 300, pki: null, down: 500, stdinEofExit: false };
+  const opts = { port: 0, tick: 200, tags: 300, pki: null, down: 500, stdinEofExit: false, secure: false, user: null };
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
     const next = () => {
@@ -41,6 +45,8 @@ function parseArgs(argv) {
       case "--pki": opts.pki = next(); break;
       case "--down": opts.down = Number(next()); break;
       case "--stdin-eof-exit": opts.stdinEofExit = true; break;
+      case "--secure": opts.secure = true; break;
+      case "--user": opts.user = next(); break;
       default: fail(`unknown option ${a}`);
     }
   }
@@ -108,9 +114,15 @@ async function start() {
     serverCertificateManager: certificateManager,
     buildInfo: { productName: "tieflow-interop-peer", buildNumber: "1" },
     serverInfo: { applicationUri: "urn:example:plant-sim-peer" },
-    securityModes: [1],
-    securityPolicies: ["http://opcfoundation.org/UA/SecurityPolicy#None"],
+    securityModes: opts.secure ? [1, 2, 3] : [1],
+    securityPolicies: opts.secure
+      ? ["http://opcfoundation.org/UA/SecurityPolicy#None", "http://opcfoundation.org/UA/SecurityPolicy#Basic256Sha256",
+        "http://opcfoundation.org/UA/SecurityPolicy#Aes128_Sha256_RsaOaep", "http://opcfoundation.org/UA/SecurityPolicy#Aes256_Sha256_RsaPss"]
+      : ["http://opcfoundation.org/UA/SecurityPolicy#None"],
     allowAnonymous: true,
+    userManager: opts.user
+      ? { isValidUser: (name, password) => name === opts.user && password === (process.env.TIEFLOW_PEER_PASSWORD ?? "") }
+      : undefined,
   });
   await server.initialize();
   const addressSpace = server.engine.addressSpace;

@@ -3,7 +3,8 @@
 //
 //   node probe.mjs <url> [--browse NODEID] [--depth N] [--read a,b] [--attributes] [--path /Objects/2:Plant/...]
 //                  [--subscribe a,b] [--seconds S] [--deadband X] [--deadband-type abs|pct] [--rb BYTES]
-//                  [--must-exist]
+//                  [--must-exist] [--security MODE:POLICY] [--user NAME] (password from TIEFLOW_PROBE_PASSWORD)
+//                  [--pki DIR] [--lifetime MS]
 //
 // Lines: {"kind":"endpoints",...} {"kind":"browse",...} {"kind":"read",...} {"kind":"translate",...}
 // {"kind":"subscription",...} {"kind":"item",...} {"kind":"data",...} {"kind":"event",...} and last
@@ -30,7 +31,7 @@ function parseArgs(argv) {
   if (argv.length === 0 || argv[0].startsWith("--")) { fail("usage: probe.mjs <url> [options]"); }
   const opts = {
     url: argv[0], browse: null, depth: 3, read: [], attributes: false, path: null, subscribe: [], seconds: 3,
-    deadband: null, deadbandType: "abs", rb: 0, mustExist: false,
+    deadband: null, deadbandType: "abs", rb: 0, mustExist: false, security: "None", user: null, pki: null, lifetime: 0,
   };
   for (let i = 1; i < argv.length; i++) {
     const a = argv[i];
@@ -50,6 +51,10 @@ function parseArgs(argv) {
       case "--deadband-type": opts.deadbandType = next(); break;
       case "--rb": opts.rb = Number(next()); break;
       case "--must-exist": opts.mustExist = true; break;
+      case "--security": opts.security = next(); break;
+      case "--user": opts.user = next(); break;
+      case "--pki": opts.pki = next(); break;
+      case "--lifetime": opts.lifetime = Number(next()); break;
       default: fail(`unknown option ${a}`);
     }
   }
@@ -126,19 +131,21 @@ async function browseTree(session, nodeId, depth, seen) {
 
 async function main() {
   const certificateManager = new OPCUACertificateManager({
-    rootFolder: path.join(os.tmpdir(), "tieflow-probe-pki"),
+    rootFolder: opts.pki ?? path.join(os.tmpdir(), "tieflow-probe-pki"),
     automaticallyAcceptUnknownCertificate: true,
   });
   const clientOptions = {
     applicationName: "tieflow-interop-probe",
     applicationUri: "urn:example:tieflow-interop-probe",
-    securityMode: MessageSecurityMode.None,
-    securityPolicy: SecurityPolicy.None,
+    securityMode: MessageSecurityMode[opts.security.split(":")[0]],
+    securityPolicy: SecurityPolicy[opts.security.split(":")[1] ?? "None"],
     endpointMustExist: opts.mustExist,
     clientCertificateManager: certificateManager,
     connectionStrategy: { initialDelay: 500, maxDelay: 2000, maxRetry: 2 },
     keepSessionAlive: false,
   };
+  if (clientOptions.securityMode === undefined || clientOptions.securityPolicy === undefined) { fail(`unknown --security ${opts.security}`); }
+  if (opts.lifetime > 0) { clientOptions.defaultSecureTokenLifetime = opts.lifetime; }
   if (opts.rb > 0) {
     clientOptions.transportSettings = { receiveBufferSize: opts.rb, sendBufferSize: opts.rb };
   }
@@ -157,8 +164,13 @@ async function main() {
       userTokens: (e.userIdentityTokens ?? []).map((t) => ({ policyId: t.policyId, tokenType: t.tokenType })),
     })),
   });
-  const session = await client.createSession();
-  emit({ kind: "session", sessionId: session.sessionId.toString() });
+  const session = await client.createSession(opts.user
+    ? { type: 1, userName: opts.user, password: process.env.TIEFLOW_PROBE_PASSWORD ?? "" }
+    : undefined);
+  emit({ kind: "session", sessionId: session.sessionId.toString(), securityMode: client.securityMode, securityPolicy: client.securityPolicy });
+  if (opts.lifetime > 0) {
+    client.on("security_token_renewed", () => emit({ kind: "event", name: "token_renewed" }));
+  }
   const counts = {};
   try {
     if (opts.browse) {

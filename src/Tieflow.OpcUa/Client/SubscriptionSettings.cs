@@ -18,6 +18,9 @@ public sealed record SubscriptionSettings
     /// <summary>Relative priority (default 0).</summary>
     public byte Priority { get; init; }
 
+    /// <summary>Most events waiting on <see cref="UaSubscription.Events"/> (default 100 000); beyond it the oldest are dropped and reported as a gap.</summary>
+    public int EventQueueCapacity { get; init; } = 100_000;
+
     /// <summary>Timestamps the server returns (default Both).</summary>
     public Encoding.TimestampsToReturn Timestamps { get; init; } = Encoding.TimestampsToReturn.Both;
 }

@@ -1,3 +1,4 @@
+using Tieflow.OpcUa.Security;
 using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Client;
@@ -11,7 +12,21 @@ public sealed record UaClientOptions
     /// <summary>Who to log in as (default anonymous).</summary>
     public UaUserIdentity Identity { get; init; } = UaUserIdentity.Anonymous;
 
-    /// <summary>The client's application URI sent in CreateSession (default <c>urn:tieflow:client</c>).</summary>
+    /// <summary>
+    /// The security to use: a mode, optionally with a policy (see <see cref="UaSecurity.Parse"/>). Null (the default):
+    /// the most secure endpoint the server offers and Tieflow supports; None only when the server offers nothing
+    /// secured, and then reported through <see cref="UaClient.StateChanged"/>. A secured connection never falls back to None.
+    /// </summary>
+    public UaSecurity? Security { get; init; }
+
+    /// <summary>
+    /// The certificate store: Tieflow's own certificate (created on first use) and the trusted server certificates.
+    /// Required for a secured connection; an untrusted server certificate is copied to its rejected folder and the
+    /// connection fails with <see cref="UaCertificateException"/> (BadCertificateUntrusted).
+    /// </summary>
+    public UaCertificateStore? CertificateStore { get; init; }
+
+    /// <summary>The client's application URI sent in CreateSession and put in its certificate (default <c>urn:tieflow:client</c>).</summary>
     public string ApplicationUri { get; init; } = "urn:tieflow:client";
 
     /// <summary>The client's application name (default <c>Tieflow</c>).</summary>

@@ -1,4 +1,5 @@
 using System.Threading.Channels;
+using Tieflow.OpcUa.Diagnostics;
 using Tieflow.OpcUa.Encoding;
 
 namespace Tieflow.OpcUa.Client;
@@ -11,17 +12,35 @@ namespace Tieflow.OpcUa.Client;
 public sealed class UaSubscription : IAsyncDisposable
 {
     private readonly UaClient _client;
-    private readonly Channel<UaSubscriptionEvent> _events = Channel.CreateUnbounded<UaSubscriptionEvent>(new UnboundedChannelOptions { SingleWriter = false });
+    private readonly Channel<UaSubscriptionEvent> _events;
     private readonly Lock _lock = new();
+    private readonly Lock _dropLock = new();
+    private long _dropped;
+    private long _droppedTotal;
+    private long _reported;
+    private DateTime _droppedFrom = DateTime.MaxValue;
+    private DateTime _droppedTo = DateTime.MinValue;
+    private bool _gapDropped;
     private readonly Dictionary<uint, MonitoredItemState> _byHandle = [];
 
     internal UaSubscription(UaClient client, SubscriptionSettings settings)
     {
         _client = client;
         Settings = settings;
+        // Bounded: a reader that falls behind loses the oldest events, and each loss is reported as a gap.
+        _events = Channel.CreateBounded<UaSubscriptionEvent>(
+            new BoundedChannelOptions(settings.EventQueueCapacity) { FullMode = BoundedChannelFullMode.DropOldest, SingleReader = false, SingleWriter = false },
+            OnDropped);
     }
 
-    /// <summary>Data changes and gaps, in arrival order. Unbounded: read it promptly. Completes when the subscription is disposed or the client closed.</summary>
+    /// <summary>Data changes dropped so far because the reader fell behind (each run of drops is reported as a <see cref="UaDataGap"/>).</summary>
+    public long DroppedEvents => Interlocked.Read(ref _droppedTotal);
+
+    /// <summary>
+    /// Data changes and gaps, in arrival order, at most <see cref="SubscriptionSettings.EventQueueCapacity"/> waiting:
+    /// when the reader falls behind the oldest are dropped and a <see cref="UaDataGap"/> names the interval they
+    /// covered. Completes when the subscription is disposed or the client closed.
+    /// </summary>
     public ChannelReader<UaSubscriptionEvent> Events => _events.Reader;
 
     /// <summary>The requested settings.</summary>
@@ -140,12 +159,84 @@ public sealed class UaSubscription : IAsyncDisposable
             }
 
             var v = n.Value;
-            _events.Writer.TryWrite(new UaDataChange(item.Key, item.Request.Node, v.Value, v.Status, v.SourceTimestamp, v.ServerTimestamp));
+            Write(new UaDataChange(item.Key, item.Request.Node, v.Value, v.Status, v.SourceTimestamp, v.ServerTimestamp));
+        }
+
+        UaDiagnostics.Notifications.Add(notification.MonitoredItems.Length);
+
+        FlushDrops();
+    }
+
+    internal void ReportGap(DateTime from, DateTime to, string reason, bool notificationsMayBeMissing = true)
+    {
+        Write(new UaDataGap(from, to, reason) { NotificationsMayBeMissing = notificationsMayBeMissing });
+        FlushDrops();
+    }
+
+    private void Write(UaSubscriptionEvent e) => _events.Writer.TryWrite(e);
+
+    /// <summary>Called by the channel (under its lock) for each event it drops: only recorded here, reported by <see cref="FlushDrops"/>.</summary>
+    private void OnDropped(UaSubscriptionEvent e)
+    {
+        lock (_dropLock)
+        {
+            switch (e)
+            {
+                case UaDataChange change:
+                    Interlocked.Increment(ref _dropped);
+                    Interlocked.Increment(ref _droppedTotal);
+                    UaDiagnostics.Dropped.Add(1);
+                    var t = change.ServerTime != DateTime.MinValue ? change.ServerTime : change.SourceTime;
+                    if (t != DateTime.MinValue)
+                    {
+                        _droppedFrom = t < _droppedFrom ? t : _droppedFrom;
+                        _droppedTo = t > _droppedTo ? t : _droppedTo;
+                    }
+
+                    break;
+                case UaDataGap gap:
+                    // A dropped gap is folded into the next one, so that no gap is ever lost.
+                    Interlocked.Add(ref _dropped, gap.DroppedEvents);
+                    _gapDropped = true;
+                    _droppedFrom = gap.From < _droppedFrom ? gap.From : _droppedFrom;
+                    _droppedTo = gap.To > _droppedTo ? gap.To : _droppedTo;
+                    break;
+            }
         }
     }
 
-    internal void ReportGap(DateTime from, DateTime to, string reason, bool notificationsMayBeMissing = true) =>
-        _events.Writer.TryWrite(new UaDataGap(from, to, reason) { NotificationsMayBeMissing = notificationsMayBeMissing });
+    /// <summary>
+    /// After a batch: one gap for the events dropped since the last one. Writing it may drop one more event, which
+    /// the next batch's gap reports.
+    /// </summary>
+    private void FlushDrops()
+    {
+        UaDataGap gap;
+        lock (_dropLock)
+        {
+            var dropped = Interlocked.Read(ref _dropped);
+            if (dropped == _reported && !_gapDropped)
+            {
+                return;
+            }
+
+            var now = _client.UtcNow;
+            var from = _droppedFrom == DateTime.MaxValue ? now : _droppedFrom;
+            var to = _droppedTo == DateTime.MinValue ? now : _droppedTo;
+            gap = new UaDataGap(from, to,
+                $"{dropped - _reported} data changes of subscription {SubscriptionId} were dropped: the reader fell behind the queue of {Settings.EventQueueCapacity}" +
+                (_gapDropped ? " (an earlier gap is included)" : string.Empty))
+            {
+                DroppedEvents = dropped - _reported,
+            };
+            _reported = dropped;
+            _droppedFrom = DateTime.MaxValue;
+            _droppedTo = DateTime.MinValue;
+            _gapDropped = false;
+        }
+
+        _events.Writer.TryWrite(gap);
+    }
 
     internal void Complete() => _events.Writer.TryComplete();
 

@@ -93,6 +93,42 @@ public static class StatusCodes
     /// <summary>BadTooManyOperations (0x80100000).</summary>
     public static readonly StatusCode BadTooManyOperations = new(0x80100000u);
 
+    /// <summary>BadCertificateInvalid (0x80120000).</summary>
+    public static readonly StatusCode BadCertificateInvalid = new(0x80120000u);
+
+    /// <summary>BadCertificateTimeInvalid (0x80140000).</summary>
+    public static readonly StatusCode BadCertificateTimeInvalid = new(0x80140000u);
+
+    /// <summary>BadCertificateIssuerTimeInvalid (0x80150000).</summary>
+    public static readonly StatusCode BadCertificateIssuerTimeInvalid = new(0x80150000u);
+
+    /// <summary>BadCertificateUriInvalid (0x80170000).</summary>
+    public static readonly StatusCode BadCertificateUriInvalid = new(0x80170000u);
+
+    /// <summary>BadCertificateUseNotAllowed (0x80180000).</summary>
+    public static readonly StatusCode BadCertificateUseNotAllowed = new(0x80180000u);
+
+    /// <summary>BadCertificateRevocationUnknown (0x801B0000).</summary>
+    public static readonly StatusCode BadCertificateRevocationUnknown = new(0x801B0000u);
+
+    /// <summary>BadCertificateRevoked (0x801D0000).</summary>
+    public static readonly StatusCode BadCertificateRevoked = new(0x801D0000u);
+
+    /// <summary>BadCertificateIssuerRevoked (0x801E0000).</summary>
+    public static readonly StatusCode BadCertificateIssuerRevoked = new(0x801E0000u);
+
+    /// <summary>BadNonceInvalid (0x80240000).</summary>
+    public static readonly StatusCode BadNonceInvalid = new(0x80240000u);
+
+    /// <summary>BadUserSignatureInvalid (0x80570000).</summary>
+    public static readonly StatusCode BadUserSignatureInvalid = new(0x80570000u);
+
+    /// <summary>BadApplicationSignatureInvalid (0x80580000).</summary>
+    public static readonly StatusCode BadApplicationSignatureInvalid = new(0x80580000u);
+
+    /// <summary>BadCertificateChainIncomplete (0x810D0000).</summary>
+    public static readonly StatusCode BadCertificateChainIncomplete = new(0x810D0000u);
+
     /// <summary>BadSecurityChecksFailed (0x80130000).</summary>
     public static readonly StatusCode BadSecurityChecksFailed = new(0x80130000u);
 
@@ -301,6 +337,18 @@ public static class StatusCodes
         [0x800E0000u] = nameof(BadServerHalted),
         [0x800F0000u] = nameof(BadNothingToDo),
         [0x80100000u] = nameof(BadTooManyOperations),
+        [0x80120000u] = nameof(BadCertificateInvalid),
+        [0x80140000u] = nameof(BadCertificateTimeInvalid),
+        [0x80150000u] = nameof(BadCertificateIssuerTimeInvalid),
+        [0x80170000u] = nameof(BadCertificateUriInvalid),
+        [0x80180000u] = nameof(BadCertificateUseNotAllowed),
+        [0x801B0000u] = nameof(BadCertificateRevocationUnknown),
+        [0x801D0000u] = nameof(BadCertificateRevoked),
+        [0x801E0000u] = nameof(BadCertificateIssuerRevoked),
+        [0x80240000u] = nameof(BadNonceInvalid),
+        [0x80570000u] = nameof(BadUserSignatureInvalid),
+        [0x80580000u] = nameof(BadApplicationSignatureInvalid),
+        [0x810D0000u] = nameof(BadCertificateChainIncomplete),
         [0x80130000u] = nameof(BadSecurityChecksFailed),
         [0x80160000u] = nameof(BadCertificateHostNameInvalid),
         [0x801A0000u] = nameof(BadCertificateUntrusted),

@@ -1,14 +1,18 @@
 using System.Buffers.Binary;
 using System.Net.Sockets;
+using System.Security.Cryptography;
+using System.Security.Cryptography.X509Certificates;
 using System.Threading.Channels;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Server;
 
 /// <summary>
 /// One client connection of the server: UA TCP (Hello/Acknowledge/Error, OPC 10000-6 §7.1) and UA Secure Conversation
-/// with SecurityPolicy None (OPN/MSG/CLO chunks, §6.7). Framing, the Hello negotiation, chunk splitting and
+/// (OPN/MSG/CLO chunks, §6.7) under SecurityPolicy None or a signed / signed and encrypted RSA policy learnt from the
+/// client's first OPN (<see cref="ChannelSecurity"/>). Framing, the Hello negotiation, chunk splitting and
 /// reassembly, limits, sequence numbers and tokens are the shared Transport types (<see cref="TcpFrameReader"/>,
 /// <see cref="TcpAcknowledge.Accept"/>, <see cref="SecureChannelCodec"/>, <see cref="SecurityTokenSet"/>); this class
 /// adds the server's rules on top: Hello first and once, OPN in one final chunk, Issue/Renew, one message reassembled
@@ -47,7 +51,13 @@ internal sealed class ServerConnection
             ReceiveTooLargeStatus = StatusCodes.BadTcpMessageTooLarge,
             InterleavedMessagesAllowed = false,
         };
+        Security = ChannelSecurity.ForServer(engine.Settings.Security?.Certificate);
+        _codec.Security = Security;
+        _codec.AsymmetricHeaderCheck = CheckAsymmetricHeader;
     }
+
+    /// <summary>The channel's security (policy and client certificate known after the first OPN).</summary>
+    public ChannelSecurity Security { get; }
 
     /// <summary>The EndpointUrl the client gave in its Hello.</summary>
     public string? HelloEndpointUrl { get; private set; }
@@ -142,6 +152,15 @@ internal sealed class ServerConnection
         var body = MessageCodec.Encode(response);
         lock (_sendLock)
         {
+            if (_closing != 0)
+            {
+                return;
+            }
+            if (!_tokens.IsAccepted(_codec.SendTokenId))
+            {
+                // The old token expired before the client used the new one: the newest secures responses now.
+                _codec.SendTokenId = _tokens.CurrentTokenId;
+            }
             List<byte[]> chunks;
             try
             {
@@ -161,6 +180,12 @@ internal sealed class ServerConnection
                 };
                 chunks = _codec.EncodeChunks(TcpMessageType.Message, requestId, MessageCodec.Encode(fault), StatusCodes.BadResponseTooLarge);
             }
+            catch (ServiceResultException e)
+            {
+                // The channel cannot secure the response (its keys are gone): it is unusable; the client reconnects.
+                SendErrorAndCloseLocked(e.Status, "the response cannot be secured: " + e.Message);
+                return;
+            }
             foreach (var chunk in chunks)
             {
                 _outgoing.Writer.TryWrite(chunk);
@@ -169,7 +194,9 @@ internal sealed class ServerConnection
     }
 
     /// <summary>Sends an ERR message, then closes the socket once it is written.</summary>
-    public void SendErrorAndClose(StatusCode status, string reason)
+    public void SendErrorAndClose(StatusCode status, string reason) => SendErrorAndCloseLocked(status, reason);
+
+    private void SendErrorAndCloseLocked(StatusCode status, string reason)
     {
         if (Interlocked.Exchange(ref _closing, 1) != 0)
         {
@@ -288,11 +315,8 @@ internal sealed class ServerConnection
         {
             throw new UaDecodingException(StatusCodes.BadDecodingError, "OpenSecureChannel: " + e.Message);
         }
-        if (request.SecurityMode != MessageSecurityMode.None)
-        {
-            throw new UaDecodingException(StatusCodes.BadSecurityModeRejected, $"security mode {request.SecurityMode} is not supported (only None)");
-        }
         var issue = request.RequestType == SecurityTokenRequestType.Issue;
+        var serverNonce = CheckOpenSecurity(request, issue);
         if (issue && _codec.ChannelId != 0)
         {
             throw new UaDecodingException(StatusCodes.BadTcpSecureChannelUnknown, "a second Issue on an open secure channel");
@@ -303,10 +327,12 @@ internal sealed class ServerConnection
         }
         var lifetime = request.RequestedLifetime == 0 ? 600_000u : Math.Clamp(request.RequestedLifetime, 1_000u, 3_600_000u);
         var tokenId = ++_lastTokenId;
-        _tokens.Add(tokenId, TimeSpan.FromMilliseconds(lifetime));
         var now = _engine.Now;
         lock (_sendLock)
         {
+            _tokens.Add(tokenId, TimeSpan.FromMilliseconds(lifetime));
+            Security.AddToken(tokenId, request.ClientNonce ?? [], serverNonce);
+            Security.PruneTokens(_tokens.IsAccepted);
             if (issue)
             {
                 _codec.ChannelId = _engine.NextChannelId();
@@ -318,13 +344,109 @@ internal sealed class ServerConnection
                 ResponseHeader = new ResponseHeader { Timestamp = now, RequestHandle = request.RequestHeader.RequestHandle },
                 ServerProtocolVersion = 0,
                 SecurityToken = new ChannelSecurityToken { ChannelId = _codec.ChannelId, TokenId = tokenId, CreatedAt = now, RevisedLifetime = lifetime },
-                ServerNonce = [],
+                ServerNonce = serverNonce,
             };
             foreach (var chunk in _codec.EncodeChunks(TcpMessageType.OpenSecureChannel, message.RequestId, MessageCodec.Encode(response), StatusCodes.BadResponseTooLarge))
             {
                 _outgoing.Writer.TryWrite(chunk);
             }
         }
+    }
+
+    /// <summary>Checks the security header of an OPN; the first one sets the channel's policy and client certificate.</summary>
+    private void CheckAsymmetricHeader(string? policyUri, byte[]? senderCertificate, byte[]? thumbprint)
+    {
+        var offered = _engine.Settings.Security?.Endpoints ?? [UaSecurity.None];
+        if (_codec.ChannelId != 0)
+        {
+            // Renew: the same policy and the same client certificate.
+            if (!string.Equals(policyUri, Security.PolicyUri, StringComparison.Ordinal))
+            {
+                throw new UaDecodingException(StatusCodes.BadSecurityPolicyRejected, $"renewal with policy '{policyUri}' on a {Security.PolicyUri} channel");
+            }
+            if (Security.IsSecure && (senderCertificate is null || !senderCertificate.AsSpan().StartsWith(Security.RemoteCertificateDer)))
+            {
+                throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "renewal signed with another client certificate");
+            }
+            if (Security.IsSecure && (thumbprint is null || !Security.IsLocalThumbprint(thumbprint)))
+            {
+                throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "renewal encrypted for another server certificate");
+            }
+            return;
+        }
+        if (string.Equals(policyUri, SecurityPolicy.NoneUri, StringComparison.Ordinal))
+        {
+            // Always accepted for discovery; a session on it only where the None endpoint is offered (CreateSession).
+            return;
+        }
+        var policy = SecurityPolicy.FromUri(policyUri);
+        if (policy is null || !offered.Any(e => string.Equals(e.PolicyUri, policyUri, StringComparison.Ordinal)))
+        {
+            throw new UaDecodingException(StatusCodes.BadSecurityPolicyRejected, $"security policy '{policyUri}' is not offered");
+        }
+        if (senderCertificate is null || senderCertificate.Length == 0)
+        {
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "the OPN carries no client certificate");
+        }
+        if (thumbprint is null || !Security.IsLocalThumbprint(thumbprint))
+        {
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "the OPN is encrypted for another server certificate");
+        }
+        X509Certificate2 certificate;
+        try
+        {
+            certificate = CertificateChain.First(senderCertificate);
+        }
+        catch (CryptographicException)
+        {
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "the client certificate cannot be read");
+        }
+        try
+        {
+            _engine.ValidateClientCertificate(certificate);
+            Security.SetPolicy(policy, certificate);
+        }
+        catch (ServiceResultException e) when (e is not UaDecodingException)
+        {
+            throw new UaDecodingException(e.Status, e.Message);
+        }
+        catch (CryptographicException)
+        {
+            // A certificate that parses but whose key does not (or is not RSA).
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "the client certificate's key cannot be read");
+        }
+    }
+
+    /// <summary>Checks the mode and nonce of an OPN request and returns the server nonce.</summary>
+    private byte[] CheckOpenSecurity(OpenSecureChannelRequest request, bool issue)
+    {
+        if (!Security.IsSecure)
+        {
+            if (request.SecurityMode != MessageSecurityMode.None)
+            {
+                throw new UaDecodingException(StatusCodes.BadSecurityModeRejected, $"security mode {request.SecurityMode} needs a security policy other than None");
+            }
+            return [];
+        }
+        if (issue)
+        {
+            var offered = _engine.Settings.Security!.Endpoints;
+            if (request.SecurityMode is not (MessageSecurityMode.Sign or MessageSecurityMode.SignAndEncrypt) ||
+                !offered.Any(e => e.Mode == request.SecurityMode && string.Equals(e.PolicyUri, Security.PolicyUri, StringComparison.Ordinal)))
+            {
+                throw new UaDecodingException(StatusCodes.BadSecurityModeRejected, $"security mode {request.SecurityMode} is not offered with {Security.Policy!.Name}");
+            }
+            Security.Mode = request.SecurityMode;
+        }
+        else if (request.SecurityMode != Security.Mode)
+        {
+            throw new UaDecodingException(StatusCodes.BadSecurityModeRejected, $"renewal asks for mode {request.SecurityMode} on a {Security.Mode} channel");
+        }
+        if (request.ClientNonce is null || request.ClientNonce.Length != Security.Policy!.NonceLength)
+        {
+            throw new UaDecodingException(StatusCodes.BadNonceInvalid, $"the client nonce must be {Security.Policy!.NonceLength} bytes");
+        }
+        return RandomNumberGenerator.GetBytes(Security.Policy.NonceLength);
     }
 
     private void RequireChannel(TcpFrame frame)

@@ -1,5 +1,7 @@
 using System.Security.Cryptography;
+using System.Security.Cryptography.X509Certificates;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 
 namespace Tieflow.OpcUa.Server;
 
@@ -37,26 +39,69 @@ internal sealed partial class ServerEngine
 
     private EndpointDescription[] Endpoints(string? requestedUrl)
     {
-        var tokens = new List<UserTokenPolicy> { new() { PolicyId = AnonymousPolicyId, TokenType = UserTokenType.Anonymous } };
-        if (Settings.Users.Count > 0)
+        var security = Settings.Security;
+        if (security is null)
         {
-            // The None policy on the token says the password travels in clear: a test and simulator setting only.
-            tokens.Add(new UserTokenPolicy { PolicyId = UserNamePolicyId, TokenType = UserTokenType.UserName, SecurityPolicyUri = NonePolicyUri });
+            var tokens = new List<UserTokenPolicy> { new() { PolicyId = AnonymousPolicyId, TokenType = UserTokenType.Anonymous } };
+            if (Settings.Users.Count > 0)
+            {
+                // The None policy on the token says the password travels in clear: a test setting only.
+                tokens.Add(new UserTokenPolicy { PolicyId = UserNamePolicyId, TokenType = UserTokenType.UserName, SecurityPolicyUri = NonePolicyUri });
+            }
+            return [Endpoint(requestedUrl, UaSecurity.None, null, [.. tokens], 1)];
         }
+        // The password is always encrypted: on a secured endpoint with the channel's policy, on the None endpoint
+        // with the most secure policy offered.
+        var strongest = security.Endpoints.Select(e => SecurityPolicy.FromUri(e.PolicyUri)).OfType<SecurityPolicy>().MaxBy(p => p.Rank);
+        var certificate = security.Certificate.RawData;
         return
         [
-            new EndpointDescription
+            .. security.Endpoints.Select(e =>
             {
-                EndpointUrl = EndpointUrlFor(requestedUrl),
-                Server = ApplicationDescription(requestedUrl),
-                ServerCertificate = null,
-                SecurityMode = MessageSecurityMode.None,
-                SecurityPolicyUri = NonePolicyUri,
-                UserIdentityTokens = [.. tokens],
-                TransportProfileUri = TransportProfileUri,
-                SecurityLevel = 1,
-            },
+                var policy = SecurityPolicy.FromUri(e.PolicyUri);
+                var tokens = new List<UserTokenPolicy> { new() { PolicyId = AnonymousPolicyId, TokenType = UserTokenType.Anonymous } };
+                var userPolicy = policy ?? strongest;
+                if (Settings.Users.Count > 0 && userPolicy is not null)
+                {
+                    tokens.Add(new UserTokenPolicy { PolicyId = UserNamePolicyId + "_" + userPolicy.Name, TokenType = UserTokenType.UserName, SecurityPolicyUri = userPolicy.Uri });
+                }
+                var level = e.Mode == MessageSecurityMode.None ? 0 : (e.Mode == MessageSecurityMode.SignAndEncrypt ? 10 : 5) + policy!.Rank;
+                return Endpoint(requestedUrl, e, certificate, [.. tokens], (byte)level);
+            }),
         ];
+    }
+
+    private EndpointDescription Endpoint(string? requestedUrl, UaSecurity security, byte[]? certificate, UserTokenPolicy[] tokens, byte level) => new()
+    {
+        EndpointUrl = EndpointUrlFor(requestedUrl),
+        Server = ApplicationDescription(requestedUrl),
+        ServerCertificate = certificate,
+        SecurityMode = security.Mode,
+        SecurityPolicyUri = security.Mode == MessageSecurityMode.None ? NonePolicyUri : security.PolicyUri,
+        UserIdentityTokens = tokens,
+        TransportProfileUri = TransportProfileUri,
+        SecurityLevel = level,
+    };
+
+    /// <summary>Checks a client certificate from an OPN (validity and trust; its URI is checked at CreateSession).</summary>
+    public void ValidateClientCertificate(X509Certificate2 certificate)
+    {
+        var security = Settings.Security ?? throw new ServiceResultException(StatusCodes.BadSecurityPolicyRejected, "this server has no security configured");
+        if (security.ClientCertificateStore is { } store)
+        {
+            store.Validate(certificate, null, null);
+            return;
+        }
+        var now = Now;
+        if (now < certificate.NotBefore.ToUniversalTime() || now > certificate.NotAfter.ToUniversalTime())
+        {
+            throw new ServiceResultException(StatusCodes.BadCertificateTimeInvalid, $"client certificate '{certificate.Subject}' is not valid now");
+        }
+        using var rsa = certificate.GetRSAPublicKey();
+        if (rsa is null || rsa.KeySize is < 2048 or > 4096)
+        {
+            throw new ServiceResultException(StatusCodes.BadCertificateInvalid, $"client certificate '{certificate.Subject}' has no RSA key of 2048 to 4096 bits");
+        }
     }
 
     private CreateSessionResponse CreateSession(ServerConnection connection, CreateSessionRequest request)
@@ -68,6 +113,29 @@ internal sealed partial class ServerEngine
         var timeout = request.RequestedSessionTimeout is > 0 and < double.PositiveInfinity
             ? Math.Clamp(request.RequestedSessionTimeout, 10_000, 3_600_000)
             : 60_000;
+        var security = connection.Security;
+        SignatureData serverSignature = new();
+        if (!security.IsSecure && Settings.Security is { } configured && !configured.Endpoints.Any(e => e.Mode == MessageSecurityMode.None))
+        {
+            throw new ServiceResultException(StatusCodes.BadSecurityPolicyRejected, "this server offers no unsecured endpoint: sessions need a secured channel");
+        }
+        if (security.IsSecure)
+        {
+            if (request.ClientCertificate is null || !request.ClientCertificate.AsSpan().StartsWith(security.RemoteCertificateDer))
+            {
+                throw new ServiceResultException(StatusCodes.BadCertificateInvalid, "the client certificate differs from the secure channel's");
+            }
+            if (request.ClientNonce is null || request.ClientNonce.Length < 32)
+            {
+                throw new ServiceResultException(StatusCodes.BadNonceInvalid, "the client nonce must be at least 32 bytes");
+            }
+            var uri = request.ClientDescription.ApplicationUri;
+            if (uri is null || !CertificateInfo.ApplicationUris(security.RemoteCertificate!).Contains(uri, StringComparer.Ordinal))
+            {
+                throw new ServiceResultException(StatusCodes.BadCertificateUriInvalid, $"the client certificate does not name application URI '{uri}'");
+            }
+            serverSignature = security.SignWithLocalKey(request.ClientCertificate, request.ClientNonce);
+        }
         var now = Now;
         var session = new ServerSession(
             new NodeId(Guid.NewGuid(), 1),
@@ -79,6 +147,7 @@ internal sealed partial class ServerEngine
         {
             ServerNonce = RandomNumberGenerator.GetBytes(32),
             MaxParkedPublish = Settings.MaxParkedPublishPerSession,
+            ClientCertificate = security.IsSecure ? security.RemoteCertificateDer : null,
         };
         _sessionsByToken.Add(session.AuthenticationToken, session);
         return new CreateSessionResponse
@@ -88,10 +157,10 @@ internal sealed partial class ServerEngine
             AuthenticationToken = session.AuthenticationToken,
             RevisedSessionTimeout = timeout,
             ServerNonce = session.ServerNonce,
-            ServerCertificate = null,
+            ServerCertificate = Settings.Security?.Certificate.RawData,
             ServerEndpoints = Endpoints(request.EndpointUrl ?? connection.HelloEndpointUrl),
             ServerSoftwareCertificates = [],
-            ServerSignature = new SignatureData(),
+            ServerSignature = serverSignature,
             MaxRequestMessageSize = (uint)Settings.MaxMessageSize,
         };
     }
@@ -102,7 +171,23 @@ internal sealed partial class ServerEngine
         {
             throw new ServiceResultException(StatusCodes.BadSessionIdInvalid, "the authentication token names no session");
         }
-        CheckIdentity(request.UserIdentityToken);
+        var security = connection.Security;
+        if (security.IsSecure)
+        {
+            if (session.ClientCertificate is null || !session.ClientCertificate.AsSpan().SequenceEqual(security.RemoteCertificateDer))
+            {
+                throw new ServiceResultException(StatusCodes.BadSecurityChecksFailed, "the session was created by another application instance");
+            }
+            if (!security.VerifyWithRemoteKey(request.ClientSignature, Settings.Security!.Certificate.RawData, session.ServerNonce))
+            {
+                throw new ServiceResultException(StatusCodes.BadApplicationSignatureInvalid, "the client signature is not valid");
+            }
+        }
+        else if (session.ClientCertificate is not null)
+        {
+            throw new ServiceResultException(StatusCodes.BadSecurityChecksFailed, "a secured session cannot be activated on an unsecured channel");
+        }
+        CheckIdentity(request.UserIdentityToken, session);
         if (!ReferenceEquals(session.Channel, connection))
         {
             // Re-activation on a new secure channel (the client reconnected): the session moves to it.
@@ -121,7 +206,7 @@ internal sealed partial class ServerEngine
         };
     }
 
-    private void CheckIdentity(ExtensionObject token)
+    private void CheckIdentity(ExtensionObject token, ServerSession session)
     {
         switch (token.Body)
         {
@@ -133,11 +218,7 @@ internal sealed partial class ServerEngine
                 {
                     throw new ServiceResultException(StatusCodes.BadIdentityTokenRejected, "this server accepts anonymous users only");
                 }
-                if (!string.IsNullOrEmpty(user.EncryptionAlgorithm))
-                {
-                    throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, "encrypted passwords are not supported on this None endpoint");
-                }
-                var given = user.Password ?? [];
+                var given = DecryptPassword(user, session);
                 var known = user.UserName is not null && Settings.Users.TryGetValue(user.UserName, out var password)
                     ? System.Text.Encoding.UTF8.GetBytes(password)
                     : [];
@@ -149,6 +230,62 @@ internal sealed partial class ServerEngine
                 return;
             default:
                 throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, $"identity token {token.TypeId} is not supported");
+        }
+    }
+
+    /// <summary>
+    /// The password of a UserName token: in clear only on a server without security; otherwise RSA-encrypted with the
+    /// server's key as the token policy says, holding length | password | the last server nonce (OPC 10000-4 §7.41.2.2).
+    /// </summary>
+    private byte[] DecryptPassword(UserNameIdentityToken user, ServerSession session)
+    {
+        var security = Settings.Security;
+        if (security is null)
+        {
+            if (!string.IsNullOrEmpty(user.EncryptionAlgorithm))
+            {
+                throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, "encrypted passwords need a server certificate; this server has none");
+            }
+            return user.Password ?? [];
+        }
+        var policy = SecurityPolicy.All.FirstOrDefault(p => user.PolicyId == UserNamePolicyId + "_" + p.Name);
+        if (policy is null || !string.Equals(user.EncryptionAlgorithm, policy.AsymmetricEncryptionUri, StringComparison.Ordinal) || user.Password is null)
+        {
+            throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, $"the password must be encrypted as token policy '{user.PolicyId}' says");
+        }
+        using var rsa = security.Certificate.GetRSAPrivateKey()!;
+        var block = rsa.KeySize / 8;
+        if (user.Password.Length == 0 || user.Password.Length % block != 0)
+        {
+            throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, "the encrypted password is not a whole number of RSA blocks");
+        }
+        byte[] plain;
+        try
+        {
+            var parts = new List<byte[]>();
+            for (var i = 0; i < user.Password.Length; i += block)
+            {
+                parts.Add(rsa.Decrypt(user.Password.AsSpan(i, block), policy.AsymmetricEncryption));
+            }
+            plain = ChannelSecurity.Concat([.. parts]);
+        }
+        catch (CryptographicException)
+        {
+            throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, "the encrypted password cannot be decrypted");
+        }
+        try
+        {
+            var nonce = session.ServerNonce;
+            var length = plain.Length >= 4 ? System.Buffers.Binary.BinaryPrimitives.ReadInt32LittleEndian(plain) : -1;
+            if (length < nonce.Length || length > plain.Length - 4 || !plain.AsSpan(4 + length - nonce.Length, nonce.Length).SequenceEqual(nonce))
+            {
+                throw new ServiceResultException(StatusCodes.BadIdentityTokenInvalid, "the encrypted password does not end with the last server nonce");
+            }
+            return plain.AsSpan(4, length - nonce.Length).ToArray();
+        }
+        finally
+        {
+            CryptographicOperations.ZeroMemory(plain);
         }
     }
 

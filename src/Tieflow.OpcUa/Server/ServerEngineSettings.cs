@@ -35,4 +35,7 @@ internal sealed class ServerEngineSettings
     public int MaxContinuationPointsPerSession { get; init; } = 10;
 
     public int MaxMessageSize { get; init; } = 16 * 1024 * 1024;
+
+    /// <summary>Certificate, endpoints and client certificate checks; null: SecurityPolicy None only.</summary>
+    public Tieflow.OpcUa.Security.UaServerSecurityOptions? Security { get; init; }
 }

@@ -38,6 +38,9 @@ internal sealed class ServerSession
 
     public byte[] ServerNonce { get; set; } = [];
 
+    /// <summary>The client certificate given in CreateSession (null on an unsecured channel).</summary>
+    public byte[]? ClientCertificate { get; init; }
+
     public int MaxParkedPublish { get; init; } = 20;
 
     public Dictionary<uint, ServerSubscription> Subscriptions { get; } = [];

@@ -1,13 +1,16 @@
 using System.Net;
 using System.Net.Sockets;
+using System.Security.Cryptography.X509Certificates;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Server;
 
 /// <summary>
-/// A small OPC UA server (UA TCP, SecurityPolicy None, anonymous or clear-text users) for the plant simulator and for
-/// tests: folders, objects and variables under the Objects folder in one namespace (index 2), the standard Server
+/// A small OPC UA server (UA TCP; SecurityPolicy None, and with <see cref="UaServerOptions.Security"/> the RSA policies
+/// Basic256Sha256, Aes128_Sha256_RsaOaep and Aes256_Sha256_RsaPss in Sign and SignAndEncrypt; anonymous users or
+/// user names with passwords) for the plant simulator and for tests: folders, objects and variables under the Objects folder in one namespace (index 2), the standard Server
 /// object, and the services of docs/opcua.md §2.1 (browse, read, subscriptions; no writes).
 /// </summary>
 /// <remarks>
@@ -60,6 +63,7 @@ public sealed class UaServer : IAsyncDisposable
             MinSamplingIntervalMs = _options.MinSamplingInterval.TotalMilliseconds,
             MaxSessions = _options.MaxSessions,
             MaxMessageSize = _options.MaxMessageSize,
+            Security = _options.Security,
         }, timeProvider ?? TimeProvider.System);
     }
 
@@ -330,6 +334,22 @@ public sealed class UaServer : IAsyncDisposable
         if (options.BufferSize < 8192)
         {
             throw new ArgumentException($"UaServerOptions.BufferSize is {options.BufferSize}; expected at least 8192", nameof(options));
+        }
+        if (options.Security is { } security)
+        {
+            using var key = security.Certificate.GetRSAPrivateKey();
+            if (key is null || key.KeySize is < 2048 or > 4096)
+            {
+                throw new ArgumentException("UaServerOptions.Security.Certificate needs an RSA private key of 2048 to 4096 bits", nameof(options));
+            }
+            if (security.Endpoints.Count == 0 || security.Endpoints.Any(e => e.Mode != MessageSecurityMode.None && SecurityPolicy.FromUri(e.PolicyUri) is null))
+            {
+                throw new ArgumentException("UaServerOptions.Security.Endpoints must name at least one endpoint, each secured one with a supported policy", nameof(options));
+            }
+            if (security.ClientCertificateStore is null && !security.AcceptAnyClientCertificate)
+            {
+                throw new ArgumentException("UaServerOptions.Security needs a ClientCertificateStore, or AcceptAnyClientCertificate = true", nameof(options));
+            }
         }
         if (options.MaxConnections < 1 || options.MaxSessions < 1)
         {

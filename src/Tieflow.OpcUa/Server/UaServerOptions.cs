@@ -1,4 +1,5 @@
 using System.Net;
+using Tieflow.OpcUa.Security;
 
 namespace Tieflow.OpcUa.Server;
 
@@ -27,10 +28,14 @@ public sealed class UaServerOptions
     public string NamespaceUri { get; init; } = "urn:tieflow:plant";
 
     /// <summary>
-    /// User names and passwords accepted on the None endpoint, where passwords travel in clear: for tests and the
-    /// simulator only. Empty (the default): anonymous users only.
+    /// User names and passwords accepted. Without <see cref="Security"/> they travel in clear on the None endpoint
+    /// (tests only); with it every endpoint asks for the password encrypted with the server's certificate. Empty (the
+    /// default): anonymous users only.
     /// </summary>
     public IReadOnlyDictionary<string, string> Users { get; init; } = new Dictionary<string, string>();
+
+    /// <summary>Certificate and secured endpoints (see <see cref="UaServerSecurityOptions.FromStore"/>); null (the default): SecurityPolicy None only.</summary>
+    public UaServerSecurityOptions? Security { get; init; }
 
     /// <summary>Fastest publishing interval granted (default 50 ms).</summary>
     public TimeSpan MinPublishingInterval { get; init; } = TimeSpan.FromMilliseconds(50);

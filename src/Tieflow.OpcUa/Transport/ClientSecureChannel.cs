@@ -1,11 +1,14 @@
 using System.Collections.Concurrent;
 using System.Net.Sockets;
+using System.Security.Cryptography;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 
 namespace Tieflow.OpcUa.Transport;
 
 /// <summary>
-/// The client end of a UA TCP connection with a SecurityPolicy None secure channel: Hello/Acknowledge (waiting for
+/// The client end of a UA TCP connection with a secure channel (None, or signed / signed and encrypted under an RSA
+/// policy, see <see cref="ChannelSecurity"/>): Hello/Acknowledge (waiting for
 /// the ACK before anything else, docs/opcua.md §1.1), OpenSecureChannel Issue, Renew at 75 % of the revised lifetime,
 /// requests matched to responses by request id with a local timeout each, and CloseSecureChannel. When the
 /// connection fails every pending request fails with the reason and <see cref="Completion"/> completes.
@@ -24,6 +27,7 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
     private NetworkStream? _stream;
     private Task? _receiveLoop;
     private ITimer? _renewTimer;
+    private byte[] _pendingClientNonce = [];
     private uint _lastRequestId;
     private uint _lastRequestHandle;
     private int _closed;
@@ -34,8 +38,16 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         _settings = settings;
         _time = time;
         _tokens = new SecurityTokenSet(time);
-        _codec = new SecureChannelCodec(settings.Limits) { IsTokenAccepted = _tokens.IsAccepted, ReceiveTooLargeStatus = StatusCodes.BadResponseTooLarge };
+        Security = settings.Policy is null || settings.Mode == MessageSecurityMode.None
+            ? ChannelSecurity.None(true)
+            : ChannelSecurity.ForClient(settings.Policy, settings.Mode,
+                settings.OwnCertificate ?? throw new ArgumentException("ClientChannelSettings.OwnCertificate is required with a security policy"),
+                settings.ServerCertificate ?? throw new ArgumentException("ClientChannelSettings.ServerCertificate is required with a security policy"));
+        _codec = new SecureChannelCodec(settings.Limits) { IsTokenAccepted = _tokens.IsAccepted, ReceiveTooLargeStatus = StatusCodes.BadResponseTooLarge, Security = Security };
     }
+
+    /// <summary>The channel's security (policy, mode, certificates).</summary>
+    public ChannelSecurity Security { get; }
 
     /// <summary>Completes when the channel is closed or failed; the result is the failure, or null after a clean close.</summary>
     public Task<ServiceResultException?> Completion => _completion.Task;
@@ -126,13 +138,14 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
 
     private async Task OpenSecureChannelAsync(SecurityTokenRequestType type, CancellationToken cancellationToken)
     {
+        _pendingClientNonce = Security.IsSecure ? RandomNumberGenerator.GetBytes(Security.Policy!.NonceLength) : [];
         var request = new OpenSecureChannelRequest
         {
             RequestHeader = NewHeader(NodeId.Null, _settings.ChannelRequestTimeout),
             ClientProtocolVersion = 0,
             RequestType = type,
-            SecurityMode = MessageSecurityMode.None,
-            ClientNonce = [],
+            SecurityMode = Security.IsSecure ? Security.Mode : MessageSecurityMode.None,
+            ClientNonce = _pendingClientNonce,
             RequestedLifetime = (uint)_settings.RequestedTokenLifetime.TotalMilliseconds,
         };
         var message = await SendCoreAsync(TcpMessageType.OpenSecureChannel, request, _settings.ChannelRequestTimeout, cancellationToken).ConfigureAwait(false);
@@ -148,7 +161,11 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         }
 
         var lifetime = TimeSpan.FromMilliseconds(Math.Max(1000u, token.RevisedLifetime));
-        _tokens.Add(token.TokenId, lifetime);
+        if (Security.IsSecure && !Security.HasKeys(token.TokenId))
+        {
+            throw new ServiceResultException(StatusCodes.BadNonceInvalid, "OpenSecureChannel: the server's nonce was not usable");
+        }
+
         _codec.SendTokenId = token.TokenId;
         ScheduleRenewal(lifetime * 0.75);
         if (type == SecurityTokenRequestType.Renew)
@@ -333,6 +350,11 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         {
             Fail(new ServiceResultException(StatusCodes.BadConnectionClosed, "The connection failed: " + ex.Message, ex));
         }
+        catch (CryptographicException)
+        {
+            // Never crash the receive loop on what a peer sent; the message names no key material.
+            Fail(new ServiceResultException(StatusCodes.BadSecurityChecksFailed, "A chunk from the server failed the security checks"));
+        }
     }
 
     /// <summary>
@@ -345,7 +367,21 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         {
             if (MessageCodec.Decode(message.Body) is OpenSecureChannelResponse { ResponseHeader.ServiceResult.IsBad: false } response)
             {
-                _tokens.Add(response.SecurityToken.TokenId, TimeSpan.FromMilliseconds(Math.Max(1000u, response.SecurityToken.RevisedLifetime)));
+                var tokenId = response.SecurityToken.TokenId;
+                if (Security.IsSecure)
+                {
+                    var serverNonce = response.ServerNonce ?? [];
+                    if (serverNonce.Length != Security.Policy!.NonceLength)
+                    {
+                        // The waiting OpenSecureChannel call reports it: no keys for this token.
+                        return;
+                    }
+
+                    Security.AddToken(tokenId, _pendingClientNonce, serverNonce);
+                }
+
+                _tokens.Add(tokenId, TimeSpan.FromMilliseconds(Math.Max(1000u, response.SecurityToken.RevisedLifetime)));
+                Security.PruneTokens(_tokens.IsAccepted);
             }
         }
         catch (UaDecodingException)
@@ -404,9 +440,9 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
                     _sendLock.Release();
                 }
             }
-            catch (Exception ex) when (ex is IOException or ObjectDisposedException or OperationCanceledException or SocketException)
+            catch (Exception ex) when (ex is IOException or ObjectDisposedException or OperationCanceledException or SocketException or ServiceResultException)
             {
-                // The peer is already gone: nothing more to close politely.
+                // The peer is already gone (or the channel can no longer secure a message): nothing more to close politely.
             }
         }
 

@@ -1,11 +1,12 @@
 using System.Buffers.Binary;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 
 namespace Tieflow.OpcUa.Transport;
 
 /// <summary>
-/// Chunking and reassembly of UA Secure Conversation messages under SecurityPolicy None (OPC 10000-6 §6.7), used
-/// by both the client and the server. Sends: splits a body into chunks no larger than the peer's receive buffer
+/// Chunking and reassembly of UA Secure Conversation messages (OPC 10000-6 §6.7), used by both the client and the
+/// server; each chunk is secured by the channel's <see cref="ChannelSecurity"/> (nothing under SecurityPolicy None). Sends: splits a body into chunks no larger than the peer's receive buffer
 /// (headers included), numbers every chunk, and refuses a message over the peer's MaxMessageSize / MaxChunkCount.
 /// Receives: checks the channel id, token id and contiguous sequence numbers (a violation throws
 /// <see cref="UaDecodingException"/>: close the channel), and reassembles bodies per request id within the local
@@ -24,7 +25,6 @@ internal sealed class SecureChannelCodec
 
     private const int MaxPartialMessages = 16;
 
-    private static readonly byte[] NoneUriBytes = System.Text.Encoding.UTF8.GetBytes(SecurityPolicyNoneUri);
     private readonly TransportLimits _local;
     private readonly Dictionary<uint, Partial> _partials = [];
     private readonly HashSet<uint> _discarding = [];
@@ -36,6 +36,16 @@ internal sealed class SecureChannelCodec
         _local = local;
         _lastSentSequence = firstSequenceNumber - 1;
     }
+
+    /// <summary>The channel's security (default none).</summary>
+    public ChannelSecurity Security { get; set; } = ChannelSecurity.None(true);
+
+    /// <summary>
+    /// Checks the asymmetric security header of a received OPN (policy URI, sender certificate, receiver thumbprint)
+    /// before the chunk is decrypted. The default accepts only the channel's own policy, the expected peer
+    /// certificate and our own thumbprint; a server replaces it to learn the policy from the first OPN.
+    /// </summary>
+    public Action<string?, byte[]?, byte[]?>? AsymmetricHeaderCheck { get; set; }
 
     /// <summary>The channel id (0 until the server has assigned one).</summary>
     public uint ChannelId { get; set; }
@@ -83,9 +93,9 @@ internal sealed class SecureChannelCodec
     public List<byte[]> EncodeChunks(uint messageType, uint requestId, ReadOnlySpan<byte> body, StatusCode tooLargeStatus)
     {
         var asymmetric = messageType == TcpMessageType.OpenSecureChannel;
-        var securityHeaderSize = asymmetric ? 4 + NoneUriBytes.Length + 4 + 4 : 4;
-        var headerSize = 12 + securityHeaderSize + 8;
-        var maxBodyPerChunk = PeerReceiveBufferSize - headerSize;
+        var securityHeader = asymmetric ? Security.AsymmetricSecurityHeader() : null;
+        var headerSize = 12 + (securityHeader?.Length ?? 4);
+        var maxBodyPerChunk = Security.MaxBodySize(asymmetric, PeerReceiveBufferSize, headerSize);
         if (maxBodyPerChunk <= 0)
         {
             throw new ServiceResultException(StatusCodes.BadTcpInternalError, $"Peer receive buffer of {PeerReceiveBufferSize} bytes cannot hold a chunk header");
@@ -103,38 +113,31 @@ internal sealed class SecureChannelCodec
         }
 
         var chunks = new List<byte[]>(chunkCount);
+        var header = new byte[headerSize];
+        var plain = new byte[8 + Math.Min(maxBodyPerChunk, body.Length)];
         var offset = 0;
         for (var i = 0; i < chunkCount; i++)
         {
             var length = Math.Min(maxBodyPerChunk, body.Length - offset);
-            var chunk = new byte[headerSize + length];
-            var span = chunk.AsSpan();
             var final = i == chunkCount - 1;
+            var span = header.AsSpan();
             BinaryPrimitives.WriteUInt32LittleEndian(span, messageType | ((uint)(final ? TcpMessageType.Final : TcpMessageType.Intermediate) << 24));
-            BinaryPrimitives.WriteInt32LittleEndian(span[4..], chunk.Length);
             BinaryPrimitives.WriteUInt32LittleEndian(span[8..], ChannelId);
-            var p = 12;
-            if (asymmetric)
+            if (securityHeader is not null)
             {
-                BinaryPrimitives.WriteInt32LittleEndian(span[p..], NoneUriBytes.Length);
-                NoneUriBytes.CopyTo(span[(p + 4)..]);
-                p += 4 + NoneUriBytes.Length;
-                BinaryPrimitives.WriteInt32LittleEndian(span[p..], -1); // SenderCertificate: null under None
-                BinaryPrimitives.WriteInt32LittleEndian(span[(p + 4)..], -1); // ReceiverCertificateThumbprint: null
-                p += 8;
+                securityHeader.CopyTo(span[12..]);
             }
             else
             {
-                BinaryPrimitives.WriteUInt32LittleEndian(span[p..], SendTokenId);
-                p += 4;
+                BinaryPrimitives.WriteUInt32LittleEndian(span[12..], SendTokenId);
             }
 
             _lastSentSequence = NextSequenceNumber(_lastSentSequence);
-            BinaryPrimitives.WriteUInt32LittleEndian(span[p..], _lastSentSequence);
-            BinaryPrimitives.WriteUInt32LittleEndian(span[(p + 4)..], requestId);
-            body.Slice(offset, length).CopyTo(span[(p + 8)..]);
+            BinaryPrimitives.WriteUInt32LittleEndian(plain, _lastSentSequence);
+            BinaryPrimitives.WriteUInt32LittleEndian(plain.AsSpan(4), requestId);
+            body.Slice(offset, length).CopyTo(plain.AsSpan(8));
             offset += length;
-            chunks.Add(chunk);
+            chunks.Add(Security.Protect(asymmetric, SendTokenId, header, plain.AsSpan(0, 8 + length)));
         }
 
         return chunks;
@@ -155,20 +158,18 @@ internal sealed class SecureChannelCodec
             new EncodingLimits { MaxStringLength = 256, MaxByteStringLength = 65536 });
         var channelId = reader.ReadUInt32();
         uint tokenId = 0;
-        if (frame.MessageType == TcpMessageType.OpenSecureChannel)
+        var asymmetric = frame.MessageType == TcpMessageType.OpenSecureChannel;
+        if (asymmetric)
         {
             var policy = reader.ReadString();
-            reader.ReadByteString();
-            reader.ReadByteString();
-            if (!string.Equals(policy, SecurityPolicyNoneUri, StringComparison.Ordinal))
-            {
-                throw new UaDecodingException(StatusCodes.BadSecurityPolicyRejected, $"Security policy '{policy}' is not supported; only {SecurityPolicyNoneUri}");
-            }
-
+            var senderCertificate = reader.ReadByteString();
+            var thumbprint = reader.ReadByteString();
             if (ChannelId != 0 && channelId != ChannelId && channelId != 0)
             {
                 throw new UaDecodingException(StatusCodes.BadTcpSecureChannelUnknown, $"OPN for secure channel {channelId}; this channel is {ChannelId}");
             }
+
+            (AsymmetricHeaderCheck ?? CheckAsymmetricHeader)(policy, senderCertificate, thumbprint);
         }
         else
         {
@@ -184,22 +185,30 @@ internal sealed class SecureChannelCodec
             }
         }
 
-        var sequence = reader.ReadUInt32();
-        var requestId = reader.ReadUInt32();
+        // Decrypt and verify before the sequence header is read: it is inside the protected part.
+        var plain = Security.Unprotect(asymmetric, tokenId, frame.Buffer, reader.Position, frame.Length);
+        if (plain.Count < 8)
+        {
+            throw new UaDecodingException(StatusCodes.BadTcpMessageTypeInvalid, "Chunk is too short for its sequence header");
+        }
+
+        var buffer = plain.Array!;
+        var sequence = BinaryPrimitives.ReadUInt32LittleEndian(buffer.AsSpan(plain.Offset));
+        var requestId = BinaryPrimitives.ReadUInt32LittleEndian(buffer.AsSpan(plain.Offset + 4));
         if (_lastReceivedSequence is { } last && !IsNextSequenceNumber(last, sequence))
         {
             throw new UaDecodingException(StatusCodes.BadSequenceNumberInvalid, $"Sequence number {sequence} does not follow {last}");
         }
 
         _lastReceivedSequence = sequence;
-        var bodyOffset = reader.Position;
-        var bodyLength = reader.Remaining;
+        var bodyOffset = plain.Offset + 8;
+        var bodyLength = plain.Count - 8;
 
         if (frame.ChunkType == TcpMessageType.Abort)
         {
             _partials.Remove(requestId);
             _discarding.Remove(requestId);
-            var error = TcpError.Decode(frame.Buffer, bodyOffset, bodyLength);
+            var error = TcpError.Decode(buffer, bodyOffset, bodyLength);
             return new ReceivedMessage(frame.MessageType, requestId, tokenId, [], error.Error.IsBad ? error.Error : StatusCodes.BadCommunicationError, error.Reason);
         }
 
@@ -228,7 +237,7 @@ internal sealed class SecureChannelCodec
                     return TooLarge(frame.MessageType, requestId, tokenId, $"a {bodyLength}-byte message");
                 }
 
-                return new ReceivedMessage(frame.MessageType, requestId, tokenId, frame.Buffer.AsSpan(bodyOffset, bodyLength).ToArray(), StatusCodes.Good, null);
+                return new ReceivedMessage(frame.MessageType, requestId, tokenId, buffer.AsSpan(bodyOffset, bodyLength).ToArray(), StatusCodes.Good, null);
             }
 
             if (_partials.Count >= MaxPartialMessages)
@@ -253,7 +262,7 @@ internal sealed class SecureChannelCodec
             return TooLarge(frame.MessageType, requestId, tokenId, $"{partial.Chunks} chunks and {partial.Size} bytes");
         }
 
-        partial.Bodies.Add(frame.Buffer.AsSpan(bodyOffset, bodyLength).ToArray());
+        partial.Bodies.Add(buffer.AsSpan(bodyOffset, bodyLength).ToArray());
         if (!final)
         {
             return null;
@@ -269,6 +278,30 @@ internal sealed class SecureChannelCodec
         }
 
         return new ReceivedMessage(frame.MessageType, requestId, tokenId, body, StatusCodes.Good, null);
+    }
+
+    private void CheckAsymmetricHeader(string? policy, byte[]? senderCertificate, byte[]? thumbprint)
+    {
+        if (!string.Equals(policy, Security.PolicyUri, StringComparison.Ordinal))
+        {
+            throw new UaDecodingException(StatusCodes.BadSecurityPolicyRejected, $"OPN uses security policy '{policy}'; this channel uses {Security.PolicyUri}");
+        }
+
+        if (!Security.IsSecure)
+        {
+            return;
+        }
+
+        var expected = Security.RemoteCertificateDer!;
+        if (senderCertificate is null || senderCertificate.Length < expected.Length || !senderCertificate.AsSpan(0, expected.Length).SequenceEqual(expected))
+        {
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "OPN was signed with another certificate than the peer's");
+        }
+
+        if (thumbprint is null || !Security.IsLocalThumbprint(thumbprint))
+        {
+            throw new UaDecodingException(StatusCodes.BadCertificateInvalid, "OPN was encrypted for another certificate than ours");
+        }
     }
 
     private ReceivedMessage TooLarge(uint messageType, uint requestId, uint tokenId, string what) =>

@@ -43,7 +43,7 @@ internal static class UaBrowseHandler
 
     private static async Task<int> RunAsync(CliContext context, UaSession.SessionSettings settings, string text, ExpandedNodeId startNode, int depth, bool json)
     {
-        await using var client = await UaSession.ConnectAsync(settings, CancellationToken.None).ConfigureAwait(false);
+        await using var client = await UaSession.ConnectAsync(settings, UaCommands.Warnings(context), CancellationToken.None).ConfigureAwait(false);
         var start = Resolve(client, startNode, text);
         var entries = new List<Entry>();
         await BrowseTreeAsync(client, start, text, 1, depth, entries, [start]).ConfigureAwait(false);

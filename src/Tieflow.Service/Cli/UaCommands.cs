@@ -5,7 +5,7 @@ namespace Tieflow.Service.Cli;
 
 /// <summary>
 /// The <c>ua</c> command group (docs/commands.md): an engineer's first check that Tieflow can see a plant's OPC UA
-/// server. Read-only: browse, read and watch.
+/// server. Read-only: browse, read and watch, under the security the server offers, and the certificate store.
 /// </summary>
 internal static class UaCommands
 {
@@ -15,8 +15,23 @@ internal static class UaCommands
         ua.Subcommands.Add(Browse(context));
         ua.Subcommands.Add(Read(context));
         ua.Subcommands.Add(Watch(context));
+        ua.Subcommands.Add(UaCertsCommands.Create(context));
         return ua;
     }
+
+    private static Option<string?> Security() => new("--security")
+    {
+        Description = "MODE[:POLICY]: None, Sign or SignAndEncrypt, optionally with Basic256Sha256, Aes128_Sha256_RsaOaep or Aes256_Sha256_RsaPss " +
+            "(default: the most secure endpoint the server offers)",
+        HelpName = "MODE[:POLICY]",
+    };
+
+    /// <summary>The certificate store option, shared with the certs commands.</summary>
+    internal static Option<string?> Pki() => new("--pki")
+    {
+        Description = "Certificate store folder (own/, trusted/, issuers/, rejected/; default " + UaSession.DefaultPki + ")",
+        HelpName = "DIR",
+    };
 
     private static Option<string> Endpoint() => new("--endpoint") { Description = "Server endpoint URL, e.g. opc.tcp://host:4840/path", Required = true, HelpName = "URL" };
 
@@ -33,13 +48,15 @@ internal static class UaCommands
     {
         Option<string> endpoint = Endpoint();
         Option<string?> user = User();
+        Option<string?> security = Security();
+        Option<string?> pki = Pki();
         Option<string> node = new("--node") { Description = "Node to start from (default the Objects folder, i=85)", HelpName = "NODEID", DefaultValueFactory = _ => "i=85" };
         Option<int> depth = new("--depth") { Description = "Levels to descend (default 1)", HelpName = "N", DefaultValueFactory = _ => 1 };
         Option<bool> json = CommonOptions.Json();
         Option<TimeSpan> connectTimeout = ConnectTimeout();
-        var command = new Command("browse", "Browses from a node: browse names, NodeIds, node classes and data types.") { endpoint, node, depth, user, json, connectTimeout };
+        var command = new Command("browse", "Browses from a node: browse names, NodeIds, node classes and data types.") { endpoint, node, depth, user, security, pki, json, connectTimeout };
         command.SetAction(parsed => Run(context, () => UaBrowseHandler.Run(context,
-            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user), parsed.GetValue(security), parsed.GetValue(pki)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
             parsed.GetValue(node)!, parsed.GetValue(depth), parsed.GetValue(json))));
         return command;
     }
@@ -48,12 +65,14 @@ internal static class UaCommands
     {
         Option<string> endpoint = Endpoint();
         Option<string?> user = User();
+        Option<string?> security = Security();
+        Option<string?> pki = Pki();
         Option<string[]> nodes = new("--node") { Description = "Node to read (repeat the option for several)", HelpName = "NODEID", Required = true, AllowMultipleArgumentsPerToken = false };
         Option<bool> json = CommonOptions.Json();
         Option<TimeSpan> connectTimeout = ConnectTimeout();
-        var command = new Command("read", "Reads current values with their status and timestamps.") { endpoint, nodes, user, json, connectTimeout };
+        var command = new Command("read", "Reads current values with their status and timestamps.") { endpoint, nodes, user, security, pki, json, connectTimeout };
         command.SetAction(parsed => Run(context, () => UaReadHandler.Run(context,
-            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user), parsed.GetValue(security), parsed.GetValue(pki)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
             parsed.GetValue(nodes)!, parsed.GetValue(json))));
         return command;
     }
@@ -62,35 +81,55 @@ internal static class UaCommands
     {
         Option<string> endpoint = Endpoint();
         Option<string?> user = User();
+        Option<string?> security = Security();
+        Option<string?> pki = Pki();
         Option<string[]> nodes = new("--node") { Description = "Node to watch (repeat the option for several)", HelpName = "NODEID", Required = true };
         Option<TimeSpan> sampling = CommonOptions.Duration("--sampling", "Sampling and publishing interval, e.g. 500ms, 1s or 00:00:01 (default 1s)", TimeSpan.FromSeconds(1));
         Option<TimeSpan?> duration = CommonOptions.OptionalDuration("--for", "Stop cleanly after this long, e.g. 30s, 15m, 2h or 01:30:00 (default: until Ctrl+C)");
         Option<bool> json = CommonOptions.Json();
         Option<TimeSpan> connectTimeout = ConnectTimeout();
-        var command = new Command("watch", "Subscribes and prints each data change, reconnecting by itself if the server goes away.") { endpoint, nodes, sampling, duration, user, json, connectTimeout };
+        var command = new Command("watch", "Subscribes and prints each data change, reconnecting by itself if the server goes away.") { endpoint, nodes, sampling, duration, user, security, pki, json, connectTimeout };
         command.SetAction(parsed => Run(context, () => UaWatchHandler.Run(context,
-            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user), parsed.GetValue(security), parsed.GetValue(pki)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
             parsed.GetValue(nodes)!, parsed.GetValue(sampling), parsed.GetValue(duration), parsed.GetValue(json))));
         return command;
     }
 
-    /// <summary>Maps the failures of the ua commands to their exit codes; everything else goes to <see cref="CommandRunner"/>.</summary>
-    private static int Run(CliContext context, Func<int> handler) => CommandRunner.Run(context, () =>
+    private static int RunAndWarn(CliContext context, Func<int> handler)
     {
+        var exit = ExitCodes.RuntimeFailure;
         try
         {
-            return handler();
+            exit = handler();
+            return exit;
         }
         catch (UaCliException e)
         {
             context.ReportFailure(e.ExitCode == ExitCodes.BadInput ? "error" : "failed", e.Message, e.ExitCode);
-            return e.ExitCode;
+            exit = e.ExitCode;
+            return exit;
         }
         catch (ServiceResultException e)
         {
             // The server answered but refused the request (unknown node, access denied...).
             context.ReportFailure("failed", $"{e.Message} ({e.Status})", ExitCodes.RuntimeFailure);
-            return ExitCodes.RuntimeFailure;
+            return exit;
         }
-    });
+        finally
+        {
+            if (DeferredWarnings.TryGetValue(context, out var warnings))
+            {
+                context.Error.Write(warnings.ToString());
+                DeferredWarnings.Remove(context);
+            }
+        }
+    }
+
+    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<CliContext, StringWriter> DeferredWarnings = [];
+
+    /// <summary>Warnings of a browse or read (connected without security...), printed on stderr after the result or the error line.</summary>
+    internal static TextWriter Warnings(CliContext context) => DeferredWarnings.GetValue(context, _ => new StringWriter());
+
+    /// <summary>Maps the failures of the ua commands to their exit codes; everything else goes to <see cref="CommandRunner"/>.</summary>
+    internal static int Run(CliContext context, Func<int> handler) => CommandRunner.Run(context, () => RunAndWarn(context, handler));
 }

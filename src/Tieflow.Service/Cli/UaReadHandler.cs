@@ -14,7 +14,7 @@ internal static class UaReadHandler
 
     private static async Task<int> RunAsync(CliContext context, UaSession.SessionSettings settings, string[] texts, List<OpcUa.Encoding.ExpandedNodeId> nodes, bool json)
     {
-        await using var client = await UaSession.ConnectAsync(settings, CancellationToken.None).ConfigureAwait(false);
+        await using var client = await UaSession.ConnectAsync(settings, UaCommands.Warnings(context), CancellationToken.None).ConfigureAwait(false);
         var resolved = nodes.Select((n, i) => UaBrowseHandler.Resolve(client, n, texts[i])).ToList();
         var values = await client.ReadAsync(resolved).ConfigureAwait(false);
         if (json)

@@ -1,21 +1,63 @@
 using Tieflow.OpcUa.Client;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 
 namespace Tieflow.Service.Cli;
 
-/// <summary>What the ua commands share: the endpoint and identity options, connecting with retries, NodeId parsing.</summary>
+/// <summary>
+/// What the ua commands share: the endpoint, identity, security and certificate store options, connecting with
+/// retries, NodeId parsing.
+/// </summary>
 internal static class UaSession
 {
     /// <summary>Environment variable holding the password for <c>--user</c> (never taken from the command line).</summary>
     public const string PasswordVariable = "TIEFLOW_OPCUA_PASSWORD";
 
-    /// <summary>Validated endpoint options; <see cref="ConnectDeadline"/> bounds the whole connect, retries included.</summary>
-    public sealed record SessionSettings(Uri Endpoint, UaUserIdentity Identity)
+    /// <summary>
+    /// Validated endpoint options; <paramref name="Security"/> null means the most secure endpoint offered, and
+    /// <see cref="ConnectDeadline"/> bounds the whole connect, retries included.
+    /// </summary>
+    public sealed record SessionSettings(Uri Endpoint, UaUserIdentity Identity, UaSecurity? Security = null, UaCertificateStore? Store = null)
     {
         public TimeSpan ConnectDeadline { get; init; } = DefaultConnectDeadline;
     }
 
-    public static SessionSettings Settings(string endpoint, string? user)
+    /// <summary>The certificate store used without <c>--pki</c>: <c>tieflow/pki</c> under the user's local data folder.</summary>
+    public static string DefaultPki
+    {
+        get
+        {
+            var data = Environment.GetFolderPath(Environment.SpecialFolder.LocalApplicationData);
+            if (string.IsNullOrEmpty(data))
+            {
+                data = Path.Combine(Environment.GetFolderPath(Environment.SpecialFolder.UserProfile), ".tieflow");
+            }
+            return Path.Combine(data, "tieflow", "pki");
+        }
+    }
+
+    /// <summary>The store of <c>--pki</c> (or the default one).</summary>
+    public static UaCertificateStore Store(string? pki) => new(string.IsNullOrWhiteSpace(pki) ? DefaultPki : pki);
+
+    public static SessionSettings Settings(string endpoint, string? user, string? security = null, string? pki = null)
+    {
+        var settings = Settings(endpoint, user);
+        UaSecurity? choice = null;
+        if (security is not null)
+        {
+            try
+            {
+                choice = UaSecurity.Parse(security);
+            }
+            catch (FormatException e)
+            {
+                throw new UaCliException(ExitCodes.BadInput, $"--security: {e.Message}");
+            }
+        }
+        return settings with { Security = choice, Store = Store(pki) };
+    }
+
+    private static SessionSettings Settings(string endpoint, string? user)
     {
         if (!Uri.TryCreate(endpoint, UriKind.Absolute, out var uri) || !string.Equals(uri.Scheme, "opc.tcp", StringComparison.OrdinalIgnoreCase) || uri.Port <= 0)
         {
@@ -59,7 +101,7 @@ internal static class UaSession
     /// retried, with a short backoff. A peer that does not answer ends the command at the deadline with the step it
     /// did not answer; after that the server counts as unreachable (exit 3).
     /// </summary>
-    public static async Task<UaClient> ConnectAsync(SessionSettings settings, CancellationToken cancellationToken)
+    public static async Task<UaClient> ConnectAsync(SessionSettings settings, TextWriter warnings, CancellationToken cancellationToken)
     {
         var deadline = settings.ConnectDeadline;
         if (deadline < TimeSpan.FromMilliseconds(100) || deadline > TimeSpan.FromHours(1))
@@ -83,8 +125,9 @@ internal static class UaSession
             {
                 EndpointUrl = settings.Endpoint,
                 Identity = settings.Identity,
-                ApplicationUri = "urn:tieflow:cli",
                 SessionName = "tieflow ua",
+                Security = settings.Security,
+                CertificateStore = settings.Store,
                 ConnectTimeout = left,
                 RequestTimeout = Min(left, TimeSpan.FromSeconds(10)),
             });
@@ -92,7 +135,21 @@ internal static class UaSession
             try
             {
                 await client.ConnectAsync(overall.Token).ConfigureAwait(false);
+                if (settings.Security is null && client.Security?.Mode == MessageSecurityMode.None)
+                {
+                    warnings.WriteLine($"warning: {settings.Endpoint} offers no secured endpoint that Tieflow supports; connected without security");
+                }
                 return client;
+            }
+            catch (UaCertificateException e)
+            {
+                await client.DisposeAsync().ConfigureAwait(false);
+                throw new UaCliException(ExitCodes.RuntimeFailure, CertificateMessage(settings, e));
+            }
+            catch (InvalidOperationException e) when (settings.Store is not null && e.Message.Contains(settings.Store.Root, StringComparison.Ordinal))
+            {
+                await client.DisposeAsync().ConfigureAwait(false);
+                throw new UaCliException(ExitCodes.RuntimeFailure, $"the certificate store cannot be used: {e.Message}");
             }
             catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
             {
@@ -168,7 +225,23 @@ internal static class UaSession
         return message;
     }
 
+    /// <summary>What the operator reads when the server's certificate is refused: what is wrong and what to do.</summary>
+    public static string CertificateMessage(SessionSettings settings, UaCertificateException e)
+    {
+        var pki = settings.Store?.Root ?? DefaultPki;
+        if (e.Status.Is(StatusCodes.BadCertificateUntrusted))
+        {
+            return $"the server certificate of {settings.Endpoint} is not trusted yet: {e.Subject}, thumbprint {e.Thumbprint}. " +
+                $"A copy was saved as {e.RejectedPath}. Check with the server's administrator that this thumbprint is the server's, then trust it with " +
+                $"`tieflow ua certs trust {e.Thumbprint} --pki {pki}` (or move the file into {Path.Combine(pki, "trusted")}) and run the command again.";
+        }
+        return $"the server certificate of {settings.Endpoint} was refused: {e.Message}";
+    }
+
     private static bool IsRefusal(StatusCode status) =>
         status.Is(StatusCodes.BadUserAccessDenied) || status.Is(StatusCodes.BadIdentityTokenInvalid) ||
-        status.Is(StatusCodes.BadIdentityTokenRejected) || status.Is(StatusCodes.BadTooManySessions);
+        status.Is(StatusCodes.BadIdentityTokenRejected) || status.Is(StatusCodes.BadTooManySessions) ||
+        status.Is(StatusCodes.BadSecurityPolicyRejected) || status.Is(StatusCodes.BadSecurityModeRejected) ||
+        status.Is(StatusCodes.BadSecurityChecksFailed) || status.Is(StatusCodes.BadCertificateInvalid) ||
+        status.Is(StatusCodes.BadApplicationSignatureInvalid) || status.Is(StatusCodes.BadConfigurationError);
 }

@@ -56,7 +56,7 @@ internal static class UaWatchHandler
         UaClient client;
         try
         {
-            client = await UaSession.ConnectAsync(settings, stop).ConfigureAwait(false);
+            client = await UaSession.ConnectAsync(settings, context.Error, stop).ConfigureAwait(false);
         }
         catch (OperationCanceledException) when (stop.IsCancellationRequested)
         {

@@ -122,7 +122,7 @@ public sealed class UaClientPublishTests
     }
 
     [Fact]
-    public async Task ConnectAsync_UserNamePolicyNeedsEncryption_ClearErrorWithoutPassword()
+    public async Task ConnectAsync_UserNamePolicyNeedsEncryptionButNoServerCertificate_ClearErrorWithoutPassword()
     {
         await using var peer = new ScriptedSessionServer
         {
@@ -130,7 +130,9 @@ public sealed class UaClientPublishTests
         };
         await using var client = new UaClient(Options(peer, UaUserIdentity.FromUserName("operator", "Very-Secret-9")));
         var ex = await Assert.ThrowsAsync<ServiceResultException>(() => client.ConnectAsync());
-        Assert.Contains("encrypted user name tokens come with the security work", ex.Message, StringComparison.Ordinal);
+        // The password must be encrypted with the server's certificate, and this endpoint carries none: never sent in clear.
+        Assert.Equal(StatusCodes.BadCertificateInvalid, ex.Status);
+        Assert.Contains("carries no certificate", ex.Message, StringComparison.Ordinal);
         Assert.DoesNotContain("Very-Secret-9", ex.ToString(), StringComparison.Ordinal);
         Assert.DoesNotContain(peer.Server.Received, r => r is ActivateSessionRequest);
     }

@@ -34,6 +34,9 @@ public sealed class NodePeer : IDisposable
         _extraArgs = extraArgs;
     }
 
+    /// <summary>The password of the user that secured peers accept and that the probe logs in with (passed through the environment).</summary>
+    public const string PeerPassword = "Interop-Pw-5813";
+
     /// <summary>The TCP port the server listens on (kept across restarts).</summary>
     public int Port { get; }
 
@@ -310,6 +313,8 @@ public sealed class NodePeer : IDisposable
             RedirectStandardError = true,
             UseShellExecute = false,
         };
+        info.Environment["TIEFLOW_PEER_PASSWORD"] = PeerPassword;
+        info.Environment["TIEFLOW_PROBE_PASSWORD"] = PeerPassword;
         info.ArgumentList.Add(script);
         foreach (var arg in args)
         {

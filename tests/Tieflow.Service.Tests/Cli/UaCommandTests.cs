@@ -10,6 +10,7 @@ namespace Tieflow.Service.Tests.Cli;
 /// <c>tieflow ua browse|read|watch</c> (docs/commands.md) against our OPC UA server over loopback: JSON shapes, exit
 /// codes (2 bad usage, 3 unreachable), and the password of <c>--user</c> never printed.
 /// </summary>
+[Collection(UaSecurityCommandTests.PasswordCollection)]
 public sealed class UaCommandTests : IAsyncLifetime
 {
     private const string Password = "correct-horse-battery-staple";
@@ -293,7 +294,7 @@ public sealed class UaCommandTests : IAsyncLifetime
         Assert.Contains("Usage:", run.Output, StringComparison.Ordinal);
     }
 
-    private static CliRun WithPassword(string? password, Func<CliRun> run)
+    internal static CliRun WithPassword(string? password, Func<CliRun> run)
     {
         var saved = Environment.GetEnvironmentVariable("TIEFLOW_OPCUA_PASSWORD");
         Environment.SetEnvironmentVariable("TIEFLOW_OPCUA_PASSWORD", password);
