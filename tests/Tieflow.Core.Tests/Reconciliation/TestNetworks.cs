@@ -257,4 +257,59 @@ internal static class TestNetworks
 
         return worst;
     }
+
+    /// <summary>
+    /// As <see cref="WorstRelativeResidual"/>, over the balances whose every term has a value (balances touching an
+    /// unobservable quantity are skipped), and with the sum of absolute terms floored at 1 % of the largest flow (at
+    /// least 1 % of one flow unit).
+    /// </summary>
+    public static double WorstRelativeResidualOfObservable(ReconciliationResult result)
+    {
+        ProcessNetwork network = result.Network;
+        double Value(string stream, int c) => c < 0 ? result.Flow(stream).Value : result.Fraction(stream, network.Components[c]).Value;
+        double largest = Math.Max(1, network.Streams.Select(s => Value(s.Id, -1)).Where(double.IsFinite).DefaultIfEmpty(1).Max());
+        double worst = 0;
+        int nc = network.Components.Count;
+        foreach (string node in network.Nodes)
+        {
+            for (int c = nc == 0 ? -1 : 0; c < Math.Max(nc, 0); c++)
+            {
+                double sum = 0;
+                double abs = 0;
+                foreach (NetworkStream s in network.Streams)
+                {
+                    double sign = s.To == node ? 1 : s.From == node ? -1 : 0;
+                    if (sign == 0)
+                    {
+                        continue;
+                    }
+
+                    double term = c < 0 ? Value(s.Id, -1) : Value(s.Id, -1) * Value(s.Id, c);
+                    sum += sign * term;
+                    abs += Math.Abs(term);
+                }
+
+                if (double.IsFinite(sum))
+                {
+                    worst = Math.Max(worst, Math.Abs(sum) / Math.Max(abs, 0.01 * largest));
+                }
+            }
+        }
+
+        foreach (NetworkStream s in network.Streams)
+        {
+            double sum = 0;
+            for (int c = 0; c < nc; c++)
+            {
+                sum += Value(s.Id, c);
+            }
+
+            if (nc > 0 && double.IsFinite(sum))
+            {
+                worst = Math.Max(worst, Math.Abs(sum - 1));
+            }
+        }
+
+        return worst;
+    }
 }
