@@ -1,3 +1,4 @@
+using System.Globalization;
 using System.Text.Json;
 using Tieflow.Core.Reconciliation;
 
@@ -38,7 +39,7 @@ internal static class ReconcileCaseReader
         }
 
         List<Measurement>? measurements = o.Get("measurements") is { } mv ? ReadMeasurements(mv, streams, components) : null;
-        double significance = o.Get("significance", required: false)?.AsNumber(0, 0.5, minExclusive: true, unit: "(the probability of a false alarm of the tests)") ?? 0.05;
+        double significance = o.Get("significance", required: false)?.AsNumber(1e-6, 0.5, unit: "(the probability of a false alarm of the tests)") ?? 0.05;
         int maxIterations = o.Get("maxIterations", required: false)?.AsInteger(1, 1000) ?? ReconciliationOptions.Default.MaxIterations;
         if (components is null || nodes is null || streams is null || measurements is null || o.Problems.Any)
         {
@@ -190,6 +191,7 @@ internal static class ReconcileCaseReader
         var componentIds = components is null ? null : new HashSet<string>(components, StringComparer.Ordinal);
         var measurements = new List<Measurement>();
         var first = new Dictionary<QuantityKey, int>();
+        var lastIndex = new Dictionary<QuantityKey, int>();
         bool ok = true;
         for (int i = 0; i < items.Count; i++)
         {
@@ -216,7 +218,7 @@ internal static class ReconcileCaseReader
                     m.Fail("component", "a flow measurement has no component; remove the key or measure a \"fraction\"");
                 }
 
-                reading = m.Get("value")?.AsNumber(unit: "(the flow unit of the case)");
+                reading = m.Get("value")?.AsNumber(0, unit: "(the flow unit of the case; a flow is never negative)");
             }
             else if (quantity == "fraction")
             {
@@ -255,6 +257,22 @@ internal static class ReconcileCaseReader
             }
 
             measurements.Add(new Measurement(key, reading.Value, sigma.Value));
+            lastIndex[key] = i;
+        }
+
+        // The fractions read on one stream cannot sum above one by more than three standard deviations of their sum.
+        foreach (IGrouping<string, Measurement> stream in measurements.Where(m => m.Key.Quantity == MeasuredQuantity.Fraction).GroupBy(m => m.Key.Stream))
+        {
+            double sum = stream.Sum(m => m.Value);
+            double sigma = Math.Sqrt(stream.Sum(m => m.Sigma * m.Sigma));
+            if (sum > 1 + (3 * sigma))
+            {
+                int at = stream.Max(m => lastIndex[m.Key]);
+                value.Problems.Add(value.File, $"{value.Path}[{at}]", string.Create(
+                    CultureInfo.InvariantCulture,
+                    $"the fractions read on stream '{stream.Key}' sum to {sum:G6}, above 1 by more than three standard deviations of their sum ({sigma:G3}); fractions of one stream sum to at most 1"));
+                ok = false;
+            }
         }
 
         return ok ? measurements : null;

@@ -48,7 +48,15 @@ public sealed class ReconcileBadInputTests
         { "flow with a component", Case.Replace("\"quantity\": \"flow\", \"value\": 100", "\"quantity\": \"flow\", \"component\": \"a\", \"value\": 100"), "$.measurements[0].component", "has no component" },
         { "fraction in a flow-only network", Case.Replace("\"components\": [\"a\", \"b\"],", string.Empty), "$.measurements[3].quantity", "no components" },
         { "flow as text", Case.Replace("\"value\": 100", "\"value\": \"100\""), "$.measurements[0].value", "expected a finite number" },
-        { "significance out of range", Case.Replace("\"nodes\":", "\"significance\": 0.7, \"nodes\":"), "$.significance", "above 0 and at most 0.5" },
+        { "significance out of range", Case.Replace("\"nodes\":", "\"significance\": 0.7, \"nodes\":"), "$.significance", "between 1E-06 and 0.5" },
+        { "significance too small", Case.Replace("\"nodes\":", "\"significance\": 1e-300, \"nodes\":"), "$.significance", "between 1E-06 and 0.5" },
+        { "negative flow", Case.Replace("\"value\": 99, \"sigma\": 1", "\"value\": -99, \"sigma\": 1"), "$.measurements[1].value", "a flow is never negative" },
+        {
+            "fractions of one stream above one",
+            Case.Replace("\"value\": 0.3, \"sigma\": 0.01 }", "\"value\": 0.9, \"sigma\": 0.01 }, { \"stream\": \"S1\", \"quantity\": \"fraction\", \"component\": \"b\", \"value\": 0.6, \"sigma\": 0.01 }"),
+            "$.measurements[4]",
+            "sum to 1.5"
+        },
         { "sigma missing", Case.Replace(", \"sigma\": 0.01", string.Empty), "$.measurements[3]", "standard deviation is missing" },
         { "sigma and relative sigma", Case.Replace("\"sigma\": 0.01", "\"sigma\": 0.01, \"relativeSigma\": 0.02"), "$.measurements[3]", "not both" },
         { "relative sigma of a zero reading", Case.Replace("\"value\": 100, \"sigma\": 1", "\"value\": 0, \"relativeSigma\": 0.01"), "$.measurements[0].relativeSigma", "zero reading" },
