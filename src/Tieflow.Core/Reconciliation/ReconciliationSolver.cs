@@ -813,94 +813,15 @@ internal sealed class ReconciliationSolver
     // Householder QR of the unmeasured columns with column pivoting on the remaining-to-original norm ratio.
     private void FactorUnmeasured()
     {
-        int m = _m;
-        for (int j = 0; j < _nu; j++)
+        _rank = PivotedHouseholderQr.Factor(
+            _au, _m, _nu, _v, _tau, _norm0, _perm, _column1, _useMasks ? _maskAu : [], _useMasks ? _maskV : [], RankTolerance);
+        if (!_useMasks)
         {
-            _perm[j] = j;
-            ReadOnlySpan<double> col = _au.AsSpan(j * m, m);
-            _norm0[j] = Math.Sqrt(DenseKernels.Dot(col, col));
-        }
-
-        int limit = Math.Min(m, _nu);
-        _rank = 0;
-        for (int k = 0; k < limit; k++)
-        {
-            int pivot = -1;
-            double best = RankTolerance;
-            double bestNorm = 0;
-            ulong rowsFromK = _useMasks ? ulong.MaxValue << k : ulong.MaxValue;
-            for (int j = k; j < _nu; j++)
-            {
-                if (_norm0[j] <= 0 || (_maskAu[j] & rowsFromK) == 0)
-                {
-                    continue;
-                }
-
-                ReadOnlySpan<double> rest = _au.AsSpan((j * m) + k, m - k);
-                double norm = Math.Sqrt(DenseKernels.Dot(rest, rest));
-                double ratio = norm / _norm0[j];
-                if (ratio > best)
-                {
-                    best = ratio;
-                    pivot = j;
-                    bestNorm = norm;
-                }
-            }
-
-            if (pivot < 0)
-            {
-                break;
-            }
-
-            if (pivot != k)
-            {
-                _au.AsSpan(k * m, m).CopyTo(_column1);
-                _au.AsSpan(pivot * m, m).CopyTo(_au.AsSpan(k * m, m));
-                _column1.AsSpan(0, m).CopyTo(_au.AsSpan(pivot * m, m));
-                (_perm[k], _perm[pivot]) = (_perm[pivot], _perm[k]);
-                (_norm0[k], _norm0[pivot]) = (_norm0[pivot], _norm0[k]);
-                (_maskAu[k], _maskAu[pivot]) = (_maskAu[pivot], _maskAu[k]);
-            }
-
-            ulong maskV = _useMasks ? (_maskAu[k] & rowsFromK) | (1UL << k) : ulong.MaxValue;
-            _maskV[k] = maskV;
-
-            Span<double> x = _au.AsSpan((k * m) + k, m - k);
-            double x0 = x[0];
-            double beta = x0 >= 0 ? -bestNorm : bestNorm;
-            double tau = (beta - x0) / beta;
-            double inv = 1.0 / (x0 - beta);
-            Span<double> v = _v.AsSpan((k * m) + k, m - k);
-            v[0] = 1;
-            for (int i = 1; i < v.Length; i++)
-            {
-                v[i] = x[i] * inv;
-            }
-
-            _tau[k] = tau;
-            x[0] = beta;
-            x[1..].Clear();
-            for (int j = k + 1; j < _nu; j++)
-            {
-                if ((_maskAu[j] & maskV) != 0)
-                {
-                    DenseKernels.Reflect(v, tau, _au.AsSpan((j * m) + k, m - k));
-                    _maskAu[j] |= maskV;
-                }
-            }
-
-            _rank = k + 1;
+            Array.Fill(_maskV, ulong.MaxValue);
         }
     }
 
-    private void ApplyQTranspose(Span<double> column)
-    {
-        int m = _m;
-        for (int k = 0; k < _rank; k++)
-        {
-            DenseKernels.Reflect(_v.AsSpan((k * m) + k, m - k), _tau[k], column[k..m]);
-        }
-    }
+    private void ApplyQTranspose(Span<double> column) => PivotedHouseholderQr.ApplyQTranspose(_v, _tau, _m, _rank, column);
 
     private void ProjectMeasured()
     {
@@ -958,76 +879,15 @@ internal sealed class ReconciliationSolver
             }
         }
 
-        double maxDiag = 0;
         for (int i = 0; i < p; i++)
         {
             for (int j = 0; j < i; j++)
             {
                 g[(j * p) + i] = g[(i * p) + j];
             }
-
-            _diag0[i] = g[(i * p) + i];
-            maxDiag = Math.Max(maxDiag, _diag0[i]);
-            _gsel[i] = i;
         }
 
-        // A pivot is judged against the original diagonal of its own row: a dependent balance leaves roundoff only.
-        _q = 0;
-        for (int k = 0; k < p; k++)
-        {
-            int pivot = -1;
-            double best = PivotTolerance;
-            for (int i = k; i < p; i++)
-            {
-                double d0 = _diag0[_gsel[i]];
-                double ratio = d0 > 0 ? g[(i * p) + i] / d0 : 0;
-                if (ratio > best)
-                {
-                    best = ratio;
-                    pivot = i;
-                }
-            }
-
-            if (pivot < 0 || maxDiag <= 0)
-            {
-                break;
-            }
-
-            if (pivot != k)
-            {
-                for (int j = 0; j < p; j++)
-                {
-                    (g[(k * p) + j], g[(pivot * p) + j]) = (g[(pivot * p) + j], g[(k * p) + j]);
-                }
-
-                for (int i = 0; i < p; i++)
-                {
-                    (g[(i * p) + k], g[(i * p) + pivot]) = (g[(i * p) + pivot], g[(i * p) + k]);
-                }
-
-                (_gsel[k], _gsel[pivot]) = (_gsel[pivot], _gsel[k]);
-            }
-
-            double lkk = Math.Sqrt(g[(k * p) + k]);
-            g[(k * p) + k] = lkk;
-            for (int i = k + 1; i < p; i++)
-            {
-                g[(i * p) + k] /= lkk;
-            }
-
-            for (int j = k + 1; j < p; j++)
-            {
-                double ljk = g[(j * p) + k];
-                for (int i = j; i < p; i++)
-                {
-                    double value = g[(i * p) + j] - (g[(i * p) + k] * ljk);
-                    g[(i * p) + j] = value;
-                    g[(j * p) + i] = value;
-                }
-            }
-
-            _q = k + 1;
-        }
+        _q = PivotedCholesky.Factor(g, p, _diag0, _gsel, PivotTolerance);
 
         // The selected projected rows, contiguous per measured column, for the vector kernels of the step.
         for (int k = 0; k < _nx; k++)
@@ -1041,53 +901,13 @@ internal sealed class ReconciliationSolver
         }
     }
 
-    private void ForwardSolve(Span<double> x)
-    {
-        int p = _p;
-        for (int i = 0; i < _q; i++)
-        {
-            double sum = x[i];
-            for (int j = 0; j < i; j++)
-            {
-                sum -= _w[(i * p) + j] * x[j];
-            }
+    private void ForwardSolve(Span<double> x) => PivotedCholesky.ForwardSolve(_w, _p, _q, x);
 
-            x[i] = sum / _w[(i * p) + i];
-        }
-    }
-
-    private void BackSolve(Span<double> x)
-    {
-        int p = _p;
-        for (int i = _q - 1; i >= 0; i--)
-        {
-            double sum = x[i];
-            for (int j = i + 1; j < _q; j++)
-            {
-                sum -= _w[(j * p) + i] * x[j];
-            }
-
-            x[i] = sum / _w[(i * p) + i];
-        }
-    }
+    private void BackSolve(Span<double> x) => PivotedCholesky.BackSolve(_w, _p, _q, x);
 
     // Solves R11 x = b in place (R from the QR of the unmeasured columns, pivoted order).
-    private void SolveR(Span<double> x)
-    {
-        int m = _m;
-        for (int i = _rank - 1; i >= 0; i--)
-        {
-            double sum = x[i];
-            for (int j = i + 1; j < _rank; j++)
-            {
-                sum -= _au[(j * m) + i] * x[j];
-            }
+    private void SolveR(Span<double> x) => PivotedHouseholderQr.SolveR(_au, _m, _rank, x);
 
-            x[i] = sum / _au[(i * m) + i];
-        }
-    }
-
-    // One step of successive linearisation with the current factorisation; returns the largest relative change.
     private double Step()
     {
         int m = _m;
