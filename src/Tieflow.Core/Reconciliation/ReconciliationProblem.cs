@@ -317,7 +317,7 @@ public sealed class ReconciliationProblem
             SolverOutcome outcome = solver.Solve(_engineReadings.AsSpan(0, measured.Count), out int iterations, out double residual, out double step);
             if (outcome != SolverOutcome.Converged)
             {
-                return SolveFailure(outcome, working, iterations, residual, step);
+                return SolveFailure(outcome, working, iterations, residual, step, solver.StillConverging);
             }
 
             // Violations of the bounds by the quantities that got a value.
@@ -483,7 +483,7 @@ public sealed class ReconciliationProblem
         return statistic;
     }
 
-    private ReconciliationResult SolveFailure(SolverOutcome outcome, SortedDictionary<int, double> working, int iterations, double residual, double step)
+    private ReconciliationResult SolveFailure(SolverOutcome outcome, SortedDictionary<int, double> working, int iterations, double residual, double step, bool stillConverging)
     {
         string held = string.Join(", ", working.Select(w => $"{_network.KeyAt(w.Key)} = {w.Value:G3}"));
         var exact = new List<string>();
@@ -513,7 +513,10 @@ public sealed class ReconciliationProblem
             $"The bilinear reconciliation of {_network.Streams.Count} streams did not converge: after {iterations} iterations " +
             $"the largest relative balance residual is {residual:G3} (tolerance {_options.Tolerance:G3}) and the last relative step {step:G3}" +
             (working.Count > 0 ? $", with the bounds {held} active" : string.Empty) + ". " +
-            "Check the measurements for values far from any consistent state, or raise MaxIterations.");
+            (stillConverging
+                ? "The steps were still shrinking: raise MaxIterations."
+                : "The steps were not shrinking, so more iterations will not help: check the measurements for values far from any " +
+                  "consistent state (a gross error), or give doubtful readings larger sigmas."));
     }
 
     private ReconciliationResult Failure(ReconciliationStatus status, string message)

@@ -283,6 +283,12 @@ internal sealed class ReconciliationSolver
         _maskV = new ulong[_nu];
     }
 
+    /// <summary>
+    /// Whether the last iterations of a solve that did not converge shrank their steps steadily, or were too few to tell
+    /// (more iterations would help).
+    /// </summary>
+    public bool StillConverging { get; private set; }
+
     /// <summary>Degrees of freedom of the last solution: the rank of the projected balances.</summary>
     public int DegreesOfFreedom => _q;
 
@@ -370,12 +376,17 @@ internal sealed class ReconciliationSolver
         step = double.PositiveInfinity;
         residual = double.PositiveInfinity;
         iterations = 0;
+        int shrinking = 0;
+        StillConverging = false;
         while (iterations < _options.MaxIterations)
         {
             iterations++;
             Factorize();
+            double previous = step;
             step = Step();
             residual = RelativeResidual();
+            shrinking = step < 0.9 * previous ? shrinking + 1 : 0;
+            StillConverging = shrinking >= 3 || iterations < 4;
             if (!double.IsFinite(step) || !double.IsFinite(residual))
             {
                 return SolverOutcome.NotConverged;
