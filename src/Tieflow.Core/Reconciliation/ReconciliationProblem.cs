@@ -61,6 +61,10 @@ public sealed class ReconciliationProblem
     private readonly int _n;
     private readonly int _gauge;
     private bool _gauged;
+    private ReconciliationSolver? _plainSolver;
+    private List<int>? _plainMeasured;
+    private List<int>? _plainHeld;
+    private readonly MeasurementRole[] _plainRoles;
 
     private ReconciliationProblem(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions options)
     {
@@ -75,6 +79,7 @@ public sealed class ReconciliationProblem
         _initialValues = new double[nx];
         _readings = new double[nx];
         _roles = new MeasurementRole[nx];
+        _plainRoles = new MeasurementRole[nx];
         _measurementOf = new int[_n];
         Array.Fill(_measurementOf, -1);
         _layoutKey = new char[_n];
@@ -429,6 +434,15 @@ public sealed class ReconciliationProblem
     // the working set), both in network order.
     private ReconciliationSolver LayoutFor(SortedDictionary<int, double> working, out List<int> measured, out List<int> held)
     {
+        // The usual call: no bound active and the same roles as the last such call.
+        bool plain = working.Count == 0 && !_gauged;
+        if (plain && _plainSolver is not null && _roles.AsSpan().SequenceEqual(_plainRoles))
+        {
+            measured = _plainMeasured!;
+            held = _plainHeld!;
+            return _plainSolver;
+        }
+
         measured = [];
         held = [];
         for (int v = 0; v < _n; v++)
@@ -459,6 +473,14 @@ public sealed class ReconciliationProblem
 
             solver = new ReconciliationSolver(_network, _options, [.. measured.Select(k => _variableOf[k])], held);
             _layouts[key] = solver;
+        }
+
+        if (plain)
+        {
+            _plainSolver = solver;
+            _plainMeasured = measured;
+            _plainHeld = held;
+            _roles.CopyTo(_plainRoles, 0);
         }
 
         return solver;
