@@ -35,6 +35,12 @@ public static class Program
             return;
         }
 
+        if (args.Length > 0 && args[0] == "scaling")
+        {
+            Reconciliation.TrainScalingProbe.Run(Console.Out);
+            return;
+        }
+
         BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
     }
 }

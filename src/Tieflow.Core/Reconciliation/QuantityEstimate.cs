@@ -10,4 +10,7 @@ public readonly record struct QuantityEstimate(QuantityKey Key, double Value, do
 {
     /// <summary>Whether the quantity got a value (everything but <see cref="QuantityStatus.Unobservable"/>).</summary>
     public bool HasValue => Status != QuantityStatus.Unobservable;
+
+    /// <summary>Whether the estimate is held at a bound (a flow at zero, a fraction at zero or one); its sigma is then zero.</summary>
+    public bool AtBound { get; init; }
 }

@@ -1,3 +1,4 @@
+using System.Globalization;
 using System.Text.Json;
 using Tieflow.Core.Reconciliation;
 
@@ -221,6 +222,7 @@ public static class ReconcileCaseReader
         var componentIds = components is null ? null : new HashSet<string>(components, StringComparer.Ordinal);
         var measurements = new List<Measurement>();
         var first = new Dictionary<QuantityKey, int>();
+        var lastIndex = new Dictionary<QuantityKey, int>();
         bool ok = true;
         for (int i = 0; i < items.Count; i++)
         {
@@ -247,7 +249,7 @@ public static class ReconcileCaseReader
                     m.Fail("component", "a flow measurement has no component; remove the key or measure a \"fraction\"");
                 }
 
-                reading = m.Get("value")?.AsNumber(-MaxFlowReading, MaxFlowReading, unit: "(the flow unit of the case)");
+                reading = m.Get("value")?.AsNumber(0, MaxFlowReading, unit: "(the flow unit of the case; a flow is never negative)");
             }
             else if (quantity == "fraction")
             {
@@ -286,6 +288,22 @@ public static class ReconcileCaseReader
             }
 
             measurements.Add(new Measurement(key, reading.Value, sigma.Value));
+            lastIndex[key] = i;
+        }
+
+        // The fractions read on one stream cannot sum above one by more than three standard deviations of their sum.
+        foreach (IGrouping<string, Measurement> stream in measurements.Where(m => m.Key.Quantity == MeasuredQuantity.Fraction).GroupBy(m => m.Key.Stream))
+        {
+            double sum = stream.Sum(m => m.Value);
+            double sigma = Math.Sqrt(stream.Sum(m => m.Sigma * m.Sigma));
+            if (sum > 1 + (3 * sigma))
+            {
+                int at = stream.Max(m => lastIndex[m.Key]);
+                value.Problems.Add(value.File, $"{value.Path}[{at}]", string.Create(
+                    CultureInfo.InvariantCulture,
+                    $"the fractions read on stream '{stream.Key}' sum to {sum:G6}, above 1 by more than three standard deviations of their sum ({sigma:G3}); fractions of one stream sum to at most 1"));
+                ok = false;
+            }
         }
 
         return ok ? measurements : null;

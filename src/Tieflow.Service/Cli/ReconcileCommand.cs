@@ -80,6 +80,16 @@ internal static class ReconcileCommand
         }
 
         w.WriteEndArray();
+        w.WriteStartArray("activeBounds");
+        foreach (QuantityKey key in report.Final.ActiveBounds)
+        {
+            w.WriteStartObject();
+            WriteKey(w, key);
+            w.WriteNumber("bound", report.Final[key].Value);
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
         w.WriteStartObject("afterElimination");
         w.WriteNumber("removed", report.Suspects.Count);
         w.WritePropertyName("globalTest");
@@ -117,6 +127,11 @@ internal static class ReconcileCommand
         if (suspects.Contains(e.Key))
         {
             w.WriteBoolean("suspect", true);
+        }
+
+        if (e.AtBound)
+        {
+            w.WriteBoolean("atBound", true);
         }
 
         w.WriteEndObject();
@@ -230,6 +245,12 @@ internal static class ReconcileCommand
         {
             console.WriteLine($"Suspects, most suspect first: {string.Join("; ", report.Suspects)}. The estimates above are from the run after removing them " +
                 $"(its global test: statistic {Num(final.GlobalTest.Statistic, "F4")} on {final.GlobalTest.DegreesOfFreedom} dof, {(final.GlobalTest.Passed ? "passed" : "failed")}).");
+        }
+
+        if (final.ActiveBounds.Count > 0)
+        {
+            console.WriteLine(Markup.Escape(
+                $"Held at a bound (the best estimate without bounds lay beyond it): {string.Join("; ", final.ActiveBounds.Select(k => $"{k} = {Num(final[k].Value, "G3")}"))}."));
         }
 
         int unobservable = final.Estimates.Count(e => e.Status == QuantityStatus.Unobservable);

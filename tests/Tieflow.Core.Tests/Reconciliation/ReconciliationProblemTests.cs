@@ -180,7 +180,10 @@ public sealed class ReconciliationProblemTests
         ReconciliationException e = Assert.Throws<ReconciliationException>(() => problem.Reconcile());
         Assert.Contains("after 1 iterations", e.Message, StringComparison.Ordinal);
         Assert.Contains("residual", e.Message, StringComparison.Ordinal);
-        Assert.False(problem.TryReconcile([.. measurements.Select(m => m.Value)], out _));
+        Assert.False(problem.TryReconcile([.. measurements.Select(m => m.Value)], out ReconciliationResult failed));
+        Assert.Equal(ReconciliationStatus.NotConverged, failed.Status);
+        Assert.Equal(e.Message, failed.Message);
+        Assert.All(failed.Estimates, q => Assert.False(q.HasValue));
     }
 
     [Fact]

@@ -81,16 +81,19 @@ internal static class TestNetworks
     }
 
     /// <summary>Six-stage counter-current train: feed into stage 1, solvent into stage 6, 14 streams.</summary>
-    public static ProcessNetwork SixStageTrain()
+    public static ProcessNetwork SixStageTrain() => Train(6);
+
+    /// <summary>Counter-current train of N stages: feed into stage 1, solvent into stage N, 2 N + 2 streams.</summary>
+    public static ProcessNetwork Train(int stages)
     {
-        var streams = new List<NetworkStream> { new("feed", null, "stage1"), new("solvent", null, "stage6") };
-        for (int k = 1; k <= 6; k++)
+        var streams = new List<NetworkStream> { new("feed", null, "stage1"), new("solvent", null, $"stage{stages}") };
+        for (int k = 1; k <= stages; k++)
         {
-            streams.Add(new NetworkStream($"R{k}", $"stage{k}", k < 6 ? $"stage{k + 1}" : null));
+            streams.Add(new NetworkStream($"R{k}", $"stage{k}", k < stages ? $"stage{k + 1}" : null));
             streams.Add(new NetworkStream($"E{k}", $"stage{k}", k > 1 ? $"stage{k - 1}" : null));
         }
 
-        return new ProcessNetwork(Enumerable.Range(1, 6).Select(k => $"stage{k}"), streams, TernaryComponents);
+        return new ProcessNetwork(Enumerable.Range(1, stages).Select(k => $"stage{k}"), streams, TernaryComponents);
     }
 
     /// <summary>
@@ -99,23 +102,26 @@ internal static class TestNetworks
     /// in a fixed proportion (a simple stage balance written for the tests, so that they stay independent of the cascade
     /// solver). The six stage balances of each component are solved as one linear system.
     /// </summary>
-    public static double[] SixStageTrainState(double feedFlow = 100, double solventFlow = 150)
+    public static double[] SixStageTrainState(double feedFlow = 100, double solventFlow = 150) => TrainState(6, feedFlow, solventFlow);
+
+    /// <summary>A consistent state of <see cref="Train"/> with N stages, built as <see cref="SixStageTrainState"/>.</summary>
+    public static double[] TrainState(int stages, double feedFlow = 100, double solventFlow = 150)
     {
         double[] feed = [0.30, 0.69, 0.01];
         double[] solvent = [0.005, 0.01, 0.985];
         double[] raffinateShare = [0.45, 0.97, 0.04];
-        const int N = 6;
-        var raffinate = new double[N, 3];
-        var extract = new double[N, 3];
+        int n = stages;
+        var raffinate = new double[n, 3];
+        var extract = new double[n, 3];
         for (int c = 0; c < 3; c++)
         {
             // Unknowns R1..R6 (0..5) and E1..E6 (6..11): R_k = phi (R_k-1 + E_k+1), E_k = (1 - phi)(R_k-1 + E_k+1).
-            var m = Matrix<double>.Build.Dense(2 * N, 2 * N);
-            var rhs = Vector<double>.Build.Dense(2 * N);
+            var m = Matrix<double>.Build.Dense(2 * n, 2 * n);
+            var rhs = Vector<double>.Build.Dense(2 * n);
             double phi = raffinateShare[c];
-            for (int k = 0; k < N; k++)
+            for (int k = 0; k < n; k++)
             {
-                foreach ((int row, double share) in new[] { (k, phi), (N + k, 1 - phi) })
+                foreach ((int row, double share) in new[] { (k, phi), (n + k, 1 - phi) })
                 {
                     m[row, row] = 1;
                     if (k > 0)
@@ -127,9 +133,9 @@ internal static class TestNetworks
                         rhs[row] += share * feedFlow * feed[c];
                     }
 
-                    if (k < N - 1)
+                    if (k < n - 1)
                     {
-                        m[row, N + k + 1] -= share;
+                        m[row, n + k + 1] -= share;
                     }
                     else
                     {
@@ -139,10 +145,10 @@ internal static class TestNetworks
             }
 
             Vector<double> x = m.Solve(rhs);
-            for (int k = 0; k < N; k++)
+            for (int k = 0; k < n; k++)
             {
                 raffinate[k, c] = x[k];
-                extract[k, c] = x[N + k];
+                extract[k, c] = x[n + k];
             }
         }
 
@@ -150,7 +156,7 @@ internal static class TestNetworks
         state.AddRange(feed);
         state.Add(solventFlow);
         state.AddRange(solvent);
-        for (int k = 0; k < N; k++)
+        for (int k = 0; k < n; k++)
         {
             foreach (double[,] phase in new[] { raffinate, extract })
             {
@@ -167,12 +173,16 @@ internal static class TestNetworks
     }
 
     /// <summary>
-    /// Which quantities of the train are measured: everything of the four boundary streams, and the solute and
+    /// Which quantities of the train are measured: everything of the four boundary streams (named as in the six-stage
+    /// train; for another stage count see <see cref="IsMeasuredInTrain(QuantityKey, int)"/>), and the solute and
     /// diluent fractions of the ten internal streams; the other 20 of 56 quantities (36 %: internal flows and
     /// solvent fractions) are unmeasured.
     /// </summary>
-    public static bool IsMeasuredInTrain(QuantityKey key) =>
-        key.Stream is "feed" or "solvent" or "R6" or "E1" || key.Component is "a" or "b";
+    public static bool IsMeasuredInTrain(QuantityKey key) => IsMeasuredInTrain(key, 6);
+
+    /// <summary>As <see cref="IsMeasuredInTrain(QuantityKey)"/> for a train of N stages (the final raffinate is R N).</summary>
+    public static bool IsMeasuredInTrain(QuantityKey key, int stages) =>
+        key.Stream == "feed" || key.Stream == "solvent" || key.Stream == $"R{stages}" || key.Stream == "E1" || key.Component is "a" or "b";
 
     /// <summary>Standard deviations used for the train: 1 % of the flow, 0.002 on fractions.</summary>
     public static double TrainSigma(QuantityKey key, double trueValue) =>
@@ -251,6 +261,61 @@ internal static class TestNetworks
                     sum += Value(s.Id, c);
                 }
 
+                worst = Math.Max(worst, Math.Abs(sum - 1));
+            }
+        }
+
+        return worst;
+    }
+
+    /// <summary>
+    /// As <see cref="WorstRelativeResidual"/>, over the balances whose every term has a value (balances touching an
+    /// unobservable quantity are skipped), and with the sum of absolute terms floored at 1 % of the largest flow (at
+    /// least 1 % of one flow unit).
+    /// </summary>
+    public static double WorstRelativeResidualOfObservable(ReconciliationResult result)
+    {
+        ProcessNetwork network = result.Network;
+        double Value(string stream, int c) => c < 0 ? result.Flow(stream).Value : result.Fraction(stream, network.Components[c]).Value;
+        double largest = Math.Max(1, network.Streams.Select(s => Value(s.Id, -1)).Where(double.IsFinite).DefaultIfEmpty(1).Max());
+        double worst = 0;
+        int nc = network.Components.Count;
+        foreach (string node in network.Nodes)
+        {
+            for (int c = nc == 0 ? -1 : 0; c < Math.Max(nc, 0); c++)
+            {
+                double sum = 0;
+                double abs = 0;
+                foreach (NetworkStream s in network.Streams)
+                {
+                    double sign = s.To == node ? 1 : s.From == node ? -1 : 0;
+                    if (sign == 0)
+                    {
+                        continue;
+                    }
+
+                    double term = c < 0 ? Value(s.Id, -1) : Value(s.Id, -1) * Value(s.Id, c);
+                    sum += sign * term;
+                    abs += Math.Abs(term);
+                }
+
+                if (double.IsFinite(sum))
+                {
+                    worst = Math.Max(worst, Math.Abs(sum) / Math.Max(abs, 0.01 * largest));
+                }
+            }
+        }
+
+        foreach (NetworkStream s in network.Streams)
+        {
+            double sum = 0;
+            for (int c = 0; c < nc; c++)
+            {
+                sum += Value(s.Id, c);
+            }
+
+            if (nc > 0 && double.IsFinite(sum))
+            {
                 worst = Math.Max(worst, Math.Abs(sum - 1));
             }
         }

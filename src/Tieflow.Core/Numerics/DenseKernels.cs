@@ -2,7 +2,7 @@ using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 
-namespace Tieflow.Core.Reconciliation;
+namespace Tieflow.Core.Numerics;
 
 /// <summary>
 /// Vector kernels for the small dense systems of a reconciliation. The systems have tens of rows, where a general
