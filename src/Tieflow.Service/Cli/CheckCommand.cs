@@ -20,10 +20,18 @@ internal static class CheckCommand
         int bad = 0;
         foreach (string path in paths)
         {
-            IReadOnlyList<InputProblem> problems = Check(path, out string kind);
+            IReadOnlyList<InputProblem> problems = Check(path, out string kind, out object? value);
             if (problems.Count == 0)
             {
                 context.Output.WriteLine($"ok: {path} ({kind})");
+                if (value is SystemFile { Model: Core.Equilibrium.TieLines.TieLineTableModel table })
+                {
+                    foreach (string advice in table.SparseTableAdvice())
+                    {
+                        context.Output.WriteLine($"  warning: {advice}");
+                    }
+                }
+
                 continue;
             }
 
@@ -39,9 +47,13 @@ internal static class CheckCommand
     }
 
     /// <summary>Every problem of one file; <paramref name="kind"/> says what the file was taken to be.</summary>
-    public static IReadOnlyList<InputProblem> Check(string path, out string kind)
+    public static IReadOnlyList<InputProblem> Check(string path, out string kind) => Check(path, out kind, out _);
+
+    /// <summary>As above, with what the file was read into (null when it could not be read).</summary>
+    public static IReadOnlyList<InputProblem> Check(string path, out string kind, out object? value)
     {
         kind = "unknown";
+        value = null;
         JsonDocument doc;
         try
         {
@@ -72,7 +84,7 @@ internal static class CheckCommand
             }
             else
             {
-                read(root);
+                value = read(root);
             }
 
             return problems.Items;

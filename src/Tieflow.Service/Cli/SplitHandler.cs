@@ -32,8 +32,8 @@ internal static class SplitHandler
                 {
                     JsonOutput.WriteStream(w, "raffinate", raffinate, system);
                     JsonOutput.WriteStream(w, "extract", extract, system);
-                    w.WriteNumber("distributionCoefficient", JsonOutput.Round(split.TieLine.DistributionCoefficient));
-                    w.WriteNumber("selectivity", JsonOutput.Round(split.TieLine.Selectivity));
+                    WriteDefined(w, "distributionCoefficient", split.TieLine.DistributionCoefficient);
+                    WriteDefined(w, "selectivity", split.TieLine.Selectivity);
                 }
 
                 JsonOutput.WriteWarnings(w, warnings);
@@ -54,11 +54,27 @@ internal static class SplitHandler
         else
         {
             console.Write(TextOutput.StreamTable(system, [("mixture", mixture), ("raffinate", raffinate), ("extract", extract)]));
-            console.WriteLine($"distribution coefficient K = {split.TieLine.DistributionCoefficient:G5}, selectivity = {split.TieLine.Selectivity:G5}");
+            console.WriteLine($"distribution coefficient K = {Defined(split.TieLine.DistributionCoefficient)}, selectivity = {Defined(split.TieLine.Selectivity)}");
         }
 
         TextOutput.WriteWarnings(console, warnings);
         TextOutput.WriteNotice(console);
         return ExitCodes.Success;
+    }
+
+    private static string Defined(double value) =>
+        double.IsFinite(value) ? value.ToString("G5", System.Globalization.CultureInfo.InvariantCulture) : "not defined";
+
+    // A figure that is not defined (no solute, or no diluent in the extract) is null, never NaN or infinity.
+    private static void WriteDefined(System.Text.Json.Utf8JsonWriter w, string name, double value)
+    {
+        if (double.IsFinite(value))
+        {
+            w.WriteNumber(name, JsonOutput.Round(value));
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
     }
 }
