@@ -685,25 +685,19 @@ public sealed class CascadeDesign
         Ternary rN = _envelope.Raffinate(xt);
         double G(double y) => Envelope.Det(rN, _envelope.FromExtract(y).Extract, z);
 
-        double yMax = _envelope.ExtractMax;
-        double previousY = 0, previousG = G(0);
-        for (int i = 1; i <= BranchScanIntervals; i++)
+        Overall found = default;
+        bool Balanced(double root)
         {
-            double y = yMax * i / BranchScanIntervals;
-            double g = G(y);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (y, f) => f(y), G, previousY, y, previousG, g, _options.Tolerance * 1e-3, _options.MaxStageIterations, out double root, out _))
-            {
-                Ternary e = _envelope.FromExtract(root).Extract;
-                (double l, double v) = Envelope.Lever(m, rN, e);
-                if (l > 0 && v > 0)
-                {
-                    overall = new Overall(root, l, v, feed.ComponentFlows - (v * e));
-                    return true;
-                }
-            }
+            Ternary e = _envelope.FromExtract(root).Extract;
+            (double l, double v) = Envelope.Lever(m, rN, e);
+            found = new Overall(root, l, v, feed.ComponentFlows - (v * e));
+            return l > 0 && v > 0;
+        }
 
-            previousY = y;
-            previousG = g;
+        if (RootBracketing.TryScan(static (y, g) => g(y), G, 0, _envelope.ExtractMax, BranchScanIntervals, _options.Tolerance * 1e-3, _options.MaxStageIterations, out _, out _, accept: Balanced))
+        {
+            overall = found;
+            return true;
         }
 
         return false;
@@ -714,39 +708,14 @@ public sealed class CascadeDesign
     {
         double G(double v) => Envelope.Det(_envelope.FromExtract(v).Extract, raffinate, difference);
         const int Cells = 32;
-        double previousY = yAbove, previousG = G(yAbove);
-        for (int i = 1; i <= Cells; i++)
+        double tolerance = _options.Tolerance * 1e-3;
+        if (RootBracketing.TryScan(static (v, g) => g(v), G, yAbove, 0, Cells, tolerance, _options.MaxStageIterations, out y, out _))
         {
-            double v = yAbove * (Cells - i) / Cells;
-            double g = G(v);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, v, previousY, g, previousG, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
-            {
-                return true;
-            }
-
-            previousY = v;
-            previousG = g;
+            return true;
         }
 
         // Near a pinch, a stage of efficiency below 1 can be fed an extract a little richer than the one it sends on.
-        double yMax = _envelope.ExtractMax;
-        previousY = yAbove;
-        previousG = G(yAbove);
-        for (int i = 1; i <= Cells; i++)
-        {
-            double v = yAbove + ((yMax - yAbove) * i / Cells);
-            double g = G(v);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, previousY, v, previousG, g, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
-            {
-                return true;
-            }
-
-            previousY = v;
-            previousG = g;
-        }
-
-        y = double.NaN;
-        return false;
+        return RootBracketing.TryScan(static (v, g) => g(v), G, yAbove, _envelope.ExtractMax, Cells, tolerance, _options.MaxStageIterations, out y, out _);
     }
 
     /// <param name="ExtractSolute">Solute fraction of the extract leaving stage 1.</param>
