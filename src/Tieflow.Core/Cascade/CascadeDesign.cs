@@ -100,37 +100,190 @@ public sealed class CascadeDesign
         MinimumSolventResult minimum = FindMinimumSolvent(feed, solventComposition, target);
         double[] perStage = StageEfficiencies(efficiencies, stages);
 
-        // Shortfall of the target: above zero when the cascade does not meet it; falls as the solvent flow rises.
+        // Shortfall of the target: above zero when the cascade does not meet it; falls as the solvent flow rises. NaN
+        // where the cascade cannot be solved (so much solvent that feed and solvent together are one phase).
         double Shortfall(double flow)
         {
-            CascadeResult r = _solver.SolveCountercurrent(feed, new MaterialStream(flow, solventComposition), perStage);
-            return target.Kind == DesignTargetKind.RaffinateFraction ? r.Raffinate.Composition.Solute - target.Value : target.Value - r.Recovery;
+            CascadeResult? r = TrySolve(feed, new MaterialStream(flow, solventComposition), perStage);
+            return r is null ? double.NaN : ShortfallOf(r, target);
         }
 
-        double lo = minimum.MinimumSolventFlow, hi = 2 * lo;
-        double fLo = Shortfall(lo), fHi = Shortfall(hi);
+        double lo = minimum.MinimumSolventFlow;
+        double fLo = Shortfall(lo);
+        for (int i = 0; i < 40 && double.IsNaN(fLo); i++)
+        {
+            lo *= 1.05; // just above the minimum the cascade may still be one phase in a stage
+            fLo = Shortfall(lo);
+        }
+
+        double unsolvable = double.NaN;
+        for (int i = 0; i < 60 && fLo <= 0; i++)
+        {
+            // Met already at this flow (the limit there is the solvent needed for two phases, not a pinch): look lower.
+            double lower = 0.5 * lo;
+            double f = Shortfall(lower);
+            if (double.IsNaN(f))
+            {
+                unsolvable = lower;
+                break;
+            }
+
+            lo = lower;
+            fLo = f;
+        }
+
+        for (int i = 0; i < 40 && fLo <= 0 && !double.IsNaN(unsolvable); i++)
+        {
+            // Between a flow too small to solve and one that meets the target: the target's flow, or the smallest
+            // flow that can be solved.
+            double mid = 0.5 * (unsolvable + lo);
+            double f = Shortfall(mid);
+            if (double.IsNaN(f))
+            {
+                unsolvable = mid;
+            }
+            else if (f > 0)
+            {
+                // A bracket [mid, lo] for the root below.
+                double hiFlow = lo, fHiFlow = fLo;
+                lo = mid;
+                fLo = f;
+                if (!BracketedRoot.TryFind(static (s, g) => g(s), Shortfall, lo, hiFlow, fLo, fHiFlow, 1e-10 * hiFlow, _options.MaxIterations, out double root, out _) || double.IsNaN(root))
+                {
+                    throw new CascadeException($"The solvent flow for {stages} stages and the {target} did not converge between {lo:G6} and {hiFlow:G6} {FlowUnit}.");
+                }
+
+                return Finish(root);
+            }
+            else
+            {
+                lo = mid;
+                fLo = f;
+            }
+        }
+
+        if (double.IsNaN(fLo))
+        {
+            throw new CascadeException($"A counter-current cascade of {stages} stages cannot be solved near the minimum solvent flow of {minimum.MinimumSolventFlow:G6} {FlowUnit} for the {target}.");
+        }
+
+        double hi = lo, fHi = fLo, lastValid = lo;
         for (int i = 0; fHi > 0 && i < 60; i++)
         {
-            lo = hi;
-            fLo = fHi;
-            hi *= 2;
+            hi = 2 * hi;
             fHi = Shortfall(hi);
+            if (double.IsNaN(fHi))
+            {
+                break;
+            }
+
+            lastValid = hi;
+            if (fHi > 0)
+            {
+                lo = hi;
+                fLo = fHi;
+            }
         }
 
-        if (fHi > 0)
+        if (!(fHi <= 0))
         {
-            throw new InfeasibleSpecificationException($"No solvent flow up to {hi:G6} {FlowUnit} lets {stages} stages reach the {target}: add stages or relax the target.");
+            throw new InfeasibleSpecificationException(Unreachable(feed, solventComposition, stages, target, perStage, lastValid, double.IsNaN(fHi) ? hi : double.NaN));
         }
 
-        if (!BracketedRoot.TryFind(static (s, f) => f(s), Shortfall, lo, hi, fLo, fHi, 1e-10 * hi, _options.MaxIterations, out double flowFound, out _))
+        double flowFound;
+        if (fLo <= 0)
+        {
+            flowFound = lo; // met at the smallest flow that can be solved
+        }
+        else if (!BracketedRoot.TryFind(static (s, f) => f(s), Shortfall, lo, hi, fLo, fHi, 1e-10 * hi, _options.MaxIterations, out flowFound, out _) || double.IsNaN(flowFound))
         {
             throw new CascadeException($"The solvent flow for {stages} stages and the {target} did not converge between {lo:G6} and {hi:G6} {FlowUnit}.");
         }
 
-        CascadeResult cascade = _solver.SolveCountercurrent(feed, new MaterialStream(flowFound, solventComposition), perStage);
-        double xt = RaffinateTarget(feed, solventComposition, flowFound, target);
-        double fractional = CountStages(feed, solventComposition, flowFound, xt, efficiencies);
-        return new DesignResult(stages, fractional, flowFound, minimum.MinimumSolventFlow, cascade);
+        return Finish(flowFound);
+
+        DesignResult Finish(double flow)
+        {
+            CascadeResult cascade = _solver.SolveCountercurrent(feed, new MaterialStream(flow, solventComposition), perStage);
+            double xt = RaffinateTarget(feed, solventComposition, flow, target);
+            double fractional = CountStages(feed, solventComposition, flow, xt, efficiencies);
+            return new DesignResult(stages, fractional, flow, Math.Min(minimum.MinimumSolventFlow, flow), cascade);
+        }
+    }
+
+    private static double ShortfallOf(CascadeResult r, DesignTarget target) =>
+        target.Kind == DesignTargetKind.RaffinateFraction ? r.Raffinate.Composition.Solute - target.Value : target.Value - r.Recovery;
+
+    private CascadeResult? TrySolve(MaterialStream feed, MaterialStream solvent, double[] perStage)
+    {
+        try
+        {
+            return _solver.TrySolveCountercurrent(feed, solvent, perStage, out CascadeResult r) ? r : null;
+        }
+        catch (CascadeException)
+        {
+            return null;
+        }
+        catch (EquilibriumException)
+        {
+            return null;
+        }
+    }
+
+    /// <summary>
+    /// The message for a target that a given number of stages reaches at no solvent flow: the best target they reach
+    /// (the lowest shortfall over the solvent flows that can be solved, from a log-spaced scan refined by golden-section
+    /// search) and at which flow.
+    /// </summary>
+    private string Unreachable(MaterialStream feed, Ternary zS, int stages, DesignTarget target, double[] perStage, double lastValid, double firstInvalid)
+    {
+        double top = lastValid;
+        if (!double.IsNaN(firstInvalid))
+        {
+            // The largest flow that can be solved: more solvent makes feed and solvent one phase.
+            double invalid = firstInvalid;
+            for (int i = 0; i < 40 && invalid - top > 1e-6 * top; i++)
+            {
+                double mid = 0.5 * (top + invalid);
+                if (TrySolve(feed, new MaterialStream(mid, zS), perStage) is null)
+                {
+                    invalid = mid;
+                }
+                else
+                {
+                    top = mid;
+                }
+            }
+        }
+
+        double bottom = Math.Max(top * 1e-6, feed.Flow * 1e-6);
+        double Objective(double logFlow) => TrySolve(feed, new MaterialStream(Math.Exp(logFlow), zS), perStage) is { } r ? ShortfallOf(r, target) : double.PositiveInfinity;
+        const int Samples = 48;
+        double a = Math.Log(bottom), b = Math.Log(top);
+        int best = Samples;
+        double bestValue = Objective(b);
+        for (int k = 0; k < Samples; k++)
+        {
+            double v = Objective(a + ((b - a) * k / Samples));
+            if (v < bestValue)
+            {
+                bestValue = v;
+                best = k;
+            }
+        }
+
+        double center = a + ((b - a) * best / Samples);
+        double step = (b - a) / Samples;
+        double logBest = GoldenSectionMinimizer.Minimize(Objective, Math.Max(a, center - step), Math.Min(b, center + step), 1e-6, 200, out _);
+        double flow = Math.Exp(logBest);
+        CascadeResult? bestCascade = TrySolve(feed, new MaterialStream(flow, zS), perStage);
+        string reached = bestCascade is null
+            ? "none could be solved"
+            : $"the best they reach is a recovery of {bestCascade.Recovery:G6} (a final raffinate solute fraction of {bestCascade.Raffinate.Composition.Solute:G6}) at a solvent flow of about {flow:G4} {FlowUnit}";
+        string beyond = double.IsNaN(firstInvalid)
+            ? string.Empty
+            : $"; above {top:G4} {FlowUnit} the feed dissolves in the solvent";
+        return $"{stages} stage{(stages == 1 ? string.Empty : "s")} cannot reach the {target} with any solvent flow: {reached}{beyond}. Add stages or relax the target to that.";
     }
 
     /// <summary>Solvent flow for a target with the same efficiency on every stage.</summary>
@@ -411,7 +564,7 @@ public sealed class CascadeDesign
         {
             if (q[i] <= q[i - 1] && q[i] <= q[i + 1])
             {
-                double xMin = GoldenMinimum(Q, xt + (h * (i - 1)), xt + (h * (i + 1)), 1e-10 * Math.Max(xEnd, 1e-6), out double qMin);
+                double xMin = GoldenSectionMinimizer.Minimize(Q, xt + (h * (i - 1)), xt + (h * (i + 1)), 1e-10 * Math.Max(xEnd, 1e-6), 200, out double qMin, stopAtOrBelow: 0);
                 if (!(qMin > 0))
                 {
                     pinch = xMin;
@@ -421,40 +574,6 @@ public sealed class CascadeDesign
         }
 
         return true;
-    }
-
-    private static double GoldenMinimum(Func<double, double> f, double a, double b, double tolerance, out double fMin)
-    {
-        const double R = 0.6180339887498949;
-        double c = b - (R * (b - a)), d = a + (R * (b - a));
-        double fc = f(c), fd = f(d);
-        for (int i = 0; i < 200 && b - a > tolerance; i++)
-        {
-            if (fc <= fd)
-            {
-                b = d;
-                d = c;
-                fd = fc;
-                c = b - (R * (b - a));
-                fc = f(c);
-            }
-            else
-            {
-                a = c;
-                c = d;
-                fc = fd;
-                d = a + (R * (b - a));
-                fd = f(d);
-            }
-
-            if (!(Math.Min(fc, fd) > 0))
-            {
-                break;
-            }
-        }
-
-        fMin = Math.Min(fc, fd);
-        return fc <= fd ? c : d;
     }
 
     private bool TryRaffinateForRecovery(MaterialStream feed, Ternary zS, double flow, double recovery, out double xt)
@@ -513,6 +632,41 @@ public sealed class CascadeDesign
 
         double lo = 1e-12 * hi;
         double fLo = Excess(lo);
+        if (double.IsNaN(fLo) && !double.IsNaN(fHi))
+        {
+            // No overall balance with a raffinate that lean (the extract would have to hold more solute than any
+            // extract can, as with little solvent): find the leanest raffinate that has one. Its recovery is the most
+            // this solvent flow can give.
+            double invalid = lo, valid = hi;
+            for (int k = 1; k < 64; k++)
+            {
+                double x = hi * k / 64.0;
+                if (!double.IsNaN(Excess(x)))
+                {
+                    valid = x;
+                    break;
+                }
+
+                invalid = x;
+            }
+
+            for (int i = 0; i < 50; i++)
+            {
+                double mid = 0.5 * (valid + invalid);
+                if (double.IsNaN(Excess(mid)))
+                {
+                    invalid = mid;
+                }
+                else
+                {
+                    valid = mid;
+                }
+            }
+
+            lo = valid;
+            fLo = Excess(lo);
+        }
+
         if (double.IsNaN(fHi) || double.IsNaN(fLo) || fLo * fHi > 0)
         {
             xt = double.NaN;
@@ -531,25 +685,19 @@ public sealed class CascadeDesign
         Ternary rN = _envelope.Raffinate(xt);
         double G(double y) => Envelope.Det(rN, _envelope.FromExtract(y).Extract, z);
 
-        double yMax = _envelope.ExtractMax;
-        double previousY = 0, previousG = G(0);
-        for (int i = 1; i <= BranchScanIntervals; i++)
+        Overall found = default;
+        bool Balanced(double root)
         {
-            double y = yMax * i / BranchScanIntervals;
-            double g = G(y);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (y, f) => f(y), G, previousY, y, previousG, g, _options.Tolerance * 1e-3, _options.MaxStageIterations, out double root, out _))
-            {
-                Ternary e = _envelope.FromExtract(root).Extract;
-                (double l, double v) = Envelope.Lever(m, rN, e);
-                if (l > 0 && v > 0)
-                {
-                    overall = new Overall(root, l, v, feed.ComponentFlows - (v * e));
-                    return true;
-                }
-            }
+            Ternary e = _envelope.FromExtract(root).Extract;
+            (double l, double v) = Envelope.Lever(m, rN, e);
+            found = new Overall(root, l, v, feed.ComponentFlows - (v * e));
+            return l > 0 && v > 0;
+        }
 
-            previousY = y;
-            previousG = g;
+        if (RootBracketing.TryScan(static (y, g) => g(y), G, 0, _envelope.ExtractMax, BranchScanIntervals, _options.Tolerance * 1e-3, _options.MaxStageIterations, out _, out _, accept: Balanced))
+        {
+            overall = found;
+            return true;
         }
 
         return false;
@@ -560,39 +708,14 @@ public sealed class CascadeDesign
     {
         double G(double v) => Envelope.Det(_envelope.FromExtract(v).Extract, raffinate, difference);
         const int Cells = 32;
-        double previousY = yAbove, previousG = G(yAbove);
-        for (int i = 1; i <= Cells; i++)
+        double tolerance = _options.Tolerance * 1e-3;
+        if (RootBracketing.TryScan(static (v, g) => g(v), G, yAbove, 0, Cells, tolerance, _options.MaxStageIterations, out y, out _))
         {
-            double v = yAbove * (Cells - i) / Cells;
-            double g = G(v);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, v, previousY, g, previousG, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
-            {
-                return true;
-            }
-
-            previousY = v;
-            previousG = g;
+            return true;
         }
 
         // Near a pinch, a stage of efficiency below 1 can be fed an extract a little richer than the one it sends on.
-        double yMax = _envelope.ExtractMax;
-        previousY = yAbove;
-        previousG = G(yAbove);
-        for (int i = 1; i <= Cells; i++)
-        {
-            double v = yAbove + ((yMax - yAbove) * i / Cells);
-            double g = G(v);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (v, f) => f(v), G, previousY, v, previousG, g, _options.Tolerance * 1e-3, _options.MaxStageIterations, out y, out _))
-            {
-                return true;
-            }
-
-            previousY = v;
-            previousG = g;
-        }
-
-        y = double.NaN;
-        return false;
+        return RootBracketing.TryScan(static (v, g) => g(v), G, yAbove, _envelope.ExtractMax, Cells, tolerance, _options.MaxStageIterations, out y, out _);
     }
 
     /// <param name="ExtractSolute">Solute fraction of the extract leaving stage 1.</param>

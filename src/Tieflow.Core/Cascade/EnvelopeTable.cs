@@ -127,20 +127,10 @@ internal sealed class EnvelopeTable : IEnvelopeBranches
     public bool TrySplit(Ternary z, out double x, out double y)
     {
         const int Cells = 64;
-        double G(double v) => Envelope.Det(Raffinate(v), ExtractAt(v), z);
-        double previous = 0, gPrevious = G(0);
-        for (int i = 1; i <= Cells; i++)
+        if (Numerics.RootBracketing.TryScan(static (v, s) => Envelope.Det(s.Table.Raffinate(v), s.Table.ExtractAt(v), s.Z), (Table: this, Z: z), 0, RaffinateMax, Cells, 1e-13, 100, out x, out _))
         {
-            double v = RaffinateMax * i / Cells;
-            double g = G(v);
-            if (gPrevious * g <= 0 && Numerics.BracketedRoot.TryFind(static (v, f) => f(v), G, previous, v, gPrevious, g, 1e-13, 100, out x, out _))
-            {
-                y = _equilibriumExtract.Interpolate(x);
-                return true;
-            }
-
-            previous = v;
-            gPrevious = g;
+            y = _equilibriumExtract.Interpolate(x);
+            return true;
         }
 
         x = y = double.NaN;

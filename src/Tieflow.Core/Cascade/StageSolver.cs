@@ -132,18 +132,9 @@ internal static class StageSolver
 
         // Otherwise (back-transfer into the raffinate, extract-side inlet rich in solute) scan the whole branch.
         const int Cells = 32;
-        double previousY = 0, previousG = g0;
-        for (int i = 1; i <= Cells; i++)
+        if (RootBracketing.TryScan(static (y, s) => s.Evaluate(y), f, 0, yMax, Cells, tolerance, options.MaxStageIterations, out root, out iterations, fFrom: g0))
         {
-            double y = yMax * i / Cells;
-            double g = f.Evaluate(y);
-            if (previousG * g <= 0 && BracketedRoot.TryFind(static (y, s) => s.Evaluate(y), f, previousY, y, previousG, g, tolerance, options.MaxStageIterations, out root, out iterations))
-            {
-                return root;
-            }
-
-            previousY = y;
-            previousG = g;
+            return root;
         }
 
         throw new CascadeException($"Stage {stage}: no extract on the model's extract branch closes the stage balance with efficiency {f.Efficiency}. "

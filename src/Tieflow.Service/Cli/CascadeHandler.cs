@@ -12,17 +12,20 @@ internal static class CascadeHandler
     {
         CascadeCase c = CaseReader.LoadCascade(casePath);
         CascadeResult result = CascadeRun.Solve(c);
+        IReadOnlyList<CascadeWarning> warnings = ResultWarnings.ForCascade(c.System.Model, c.TemperatureKelvin, c.Feed, c.Solvent, result);
+        CascadeOutput.Figures figures = CascadeOutput.FiguresOf(c.System.Model, c.Feed, c.Solvent, result);
         if (json)
         {
-            JsonOutput.Print(context.Output, w =>
+            JsonOutput.Print(context.Output, w => CascadeOutput.WriteJson(w, result, c.System.System, figures, warnings, more: w =>
             {
-                CascadeOutput.WriteJson(w, result, c.System.System, notice: true);
-            });
+                JsonOutput.WriteContext(w, c.System.Name, c.System.System, c.TemperatureKelvin);
+                JsonOutput.WriteNotice(w);
+            }));
             return ExitCodes.Success;
         }
 
         context.Console.WriteLine($"{(c.Arrangement == CascadeArrangement.Crosscurrent ? "Cross-current" : "Counter-current")} cascade of {c.Stages} stage(s) at {c.TemperatureKelvin:0.##} K, system '{c.System.Name}'");
-        CascadeOutput.WriteTable(context.Console, result, c.System.System);
+        CascadeOutput.WriteTable(context.Console, result, c.System.System, figures, warnings);
         TextOutput.WriteNotice(context.Console);
         return ExitCodes.Success;
     }

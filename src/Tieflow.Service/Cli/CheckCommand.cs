@@ -36,7 +36,7 @@ internal static class CheckCommand
 
     public static int Run(CliContext context, IReadOnlyList<string> paths, bool json = false)
     {
-        var results = paths.Select(path => (Path: path, Problems: Check(path, out string kind), Kind: kind)).ToList();
+        var results = paths.Select(path => (Path: path, Problems: Check(path, out string kind, out object? value), Kind: kind, Value: value)).ToList();
         int bad = results.Count(r => r.Problems.Count > 0);
         if (json)
         {
@@ -44,7 +44,7 @@ internal static class CheckCommand
             {
                 w.WriteStartObject();
                 w.WriteStartArray("files");
-                foreach (var (path, problems, kind) in results)
+                foreach (var (path, problems, kind, _) in results)
                 {
                     w.WriteStartObject();
                     w.WriteString("file", path);
@@ -72,11 +72,19 @@ internal static class CheckCommand
             return bad == 0 ? ExitCodes.Success : ExitCodes.BadInput;
         }
 
-        foreach (var (path, problems, kind) in results)
+        foreach (var (path, problems, kind, value) in results)
         {
             if (problems.Count == 0)
             {
                 context.Output.WriteLine($"ok: {path} ({kind})");
+                if (value is SystemFile { Model: Core.Equilibrium.TieLines.TieLineTableModel table })
+                {
+                    foreach (string advice in table.SparseTableAdvice())
+                    {
+                        context.Output.WriteLine($"  warning: {advice}");
+                    }
+                }
+
                 continue;
             }
 
@@ -91,9 +99,13 @@ internal static class CheckCommand
     }
 
     /// <summary>Every problem of one file; <paramref name="kind"/> says what the file was taken to be.</summary>
-    public static IReadOnlyList<InputProblem> Check(string path, out string kind)
+    public static IReadOnlyList<InputProblem> Check(string path, out string kind) => Check(path, out kind, out _);
+
+    /// <summary>As above, with what the file was read into (null when it could not be read).</summary>
+    public static IReadOnlyList<InputProblem> Check(string path, out string kind, out object? value)
     {
         kind = CaseKinds.Unknown;
+        value = null;
         JsonDocument doc;
         try
         {
@@ -115,7 +127,7 @@ internal static class CheckCommand
             }
             else
             {
-                read(root);
+                value = read(root);
             }
 
             return problems.Items;

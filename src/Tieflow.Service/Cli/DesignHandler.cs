@@ -43,6 +43,7 @@ internal static class DesignHandler
                         w.WriteNull("pinchRaffinateSoluteFraction");
                     }
                     w.WriteNull("cascade");
+                    JsonOutput.WriteContext(w, c.System.Name, c.System.System, c.TemperatureKelvin);
                     JsonOutput.WriteNotice(w);
                     w.WriteEndObject();
                 });
@@ -61,6 +62,9 @@ internal static class DesignHandler
             ? design.FindStages(c.Feed, c.Solvent, target, c.Efficiencies)
             : design.FindSolvent(c.Feed, c.Solvent.Composition, c.Stages, target, c.Efficiencies);
 
+        var solvent = new Core.Chemistry.MaterialStream(result.SolventFlow, c.Solvent.Composition);
+        IReadOnlyList<CascadeWarning> warnings = ResultWarnings.ForDesign(c.System.Model, c.TemperatureKelvin, c.Feed, c.Solvent.Composition, result);
+        CascadeOutput.Figures figures = CascadeOutput.FiguresOf(c.System.Model, c.Feed, solvent, result.Cascade);
         if (json)
         {
             JsonOutput.Print(context.Output, w =>
@@ -71,7 +75,9 @@ internal static class DesignHandler
                 w.WriteNumber("solventFlow", JsonOutput.Round(result.SolventFlow));
                 w.WriteNumber("minimumSolventFlow", JsonOutput.Round(result.MinimumSolventFlow));
                 w.WritePropertyName("cascade");
-                CascadeOutput.WriteJson(w, result.Cascade, c.System.System);
+                CascadeOutput.WriteJson(w, result.Cascade, c.System.System, figures, warnings: null);
+                JsonOutput.WriteWarnings(w, warnings);
+                JsonOutput.WriteContext(w, c.System.Name, c.System.System, c.TemperatureKelvin);
                 JsonOutput.WriteNotice(w);
                 w.WriteEndObject();
             });
@@ -82,7 +88,7 @@ internal static class DesignHandler
             ? $"Stages for {target} with {result.SolventFlow:G6} {unit} of solvent: {result.FractionalStages:0.00} ({result.Stages} whole stages); minimum solvent {result.MinimumSolventFlow:G6} {unit}"
             : $"Solvent flow for {target} with {result.Stages} stages: {result.SolventFlow:G6} {unit} (minimum solvent {result.MinimumSolventFlow:G6} {unit})");
         context.Console.WriteLine($"Cascade at the answer ({result.Stages} stages):");
-        CascadeOutput.WriteTable(context.Console, result.Cascade, c.System.System);
+        CascadeOutput.WriteTable(context.Console, result.Cascade, c.System.System, figures, warnings);
         TextOutput.WriteNotice(context.Console);
         return ExitCodes.Success;
     }

@@ -1,4 +1,5 @@
 using Spectre.Console;
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
 using Tieflow.Files;
@@ -18,6 +19,7 @@ internal static class SplitHandler
         double extractFlow = mixture.Flow * split.ExtractFraction;
         var raffinate = new MaterialStream(mixture.Flow - extractFlow, split.Raffinate);
         var extract = new MaterialStream(extractFlow, split.Extract);
+        IReadOnlyList<CascadeWarning> warnings = ResultWarnings.ForSplit(c.System.Model, c.TemperatureKelvin, split);
 
         if (json)
         {
@@ -35,6 +37,8 @@ internal static class SplitHandler
                     JsonOutput.WriteNumber(w, "selectivity", split.TieLine.Selectivity);
                 }
 
+                JsonOutput.WriteWarnings(w, warnings);
+                JsonOutput.WriteContext(w, c.System.Name, system, c.TemperatureKelvin);
                 JsonOutput.WriteNotice(w);
                 w.WriteEndObject();
             });
@@ -54,6 +58,7 @@ internal static class SplitHandler
             console.WriteLine($"distribution coefficient K = {TextOutput.Num(split.TieLine.DistributionCoefficient, "G5")}, selectivity = {TextOutput.Num(split.TieLine.Selectivity, "G5")}");
         }
 
+        TextOutput.WriteWarnings(console, warnings);
         TextOutput.WriteNotice(console);
         return ExitCodes.Success;
     }

@@ -1,5 +1,6 @@
 using System.Text;
 using System.Text.Json;
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 
 namespace Tieflow.Service.Output;
@@ -35,6 +36,44 @@ internal static class JsonOutput
     }
 
     public static void WriteNotice(Utf8JsonWriter w) => w.WriteString("notice", Notices.Advisory);
+
+    /// <summary>The basis, units, system name and temperature of a result.</summary>
+    public static void WriteContext(Utf8JsonWriter w, string systemName, TernarySystem system, double temperatureKelvin)
+    {
+        bool mass = system.Basis == CompositionBasis.Mass;
+        w.WriteString("system", systemName);
+        w.WriteString("basis", mass ? "mass" : "mole");
+        w.WriteStartObject("units");
+        w.WriteString("flow", mass ? "kg/h" : "kmol/h");
+        w.WriteString("composition", mass ? "mass fraction" : "mole fraction");
+        w.WriteString("temperature", "K");
+        w.WriteEndObject();
+        w.WriteNumber("temperature", Round(temperatureKelvin));
+    }
+
+    /// <summary>Warnings as an array of { code, stage (null for the whole result), message }.</summary>
+    public static void WriteWarnings(Utf8JsonWriter w, IReadOnlyList<CascadeWarning> warnings)
+    {
+        w.WriteStartArray("warnings");
+        foreach (CascadeWarning warning in warnings)
+        {
+            w.WriteStartObject();
+            w.WriteString("code", warning.Code);
+            if (warning.Stage is int stage)
+            {
+                w.WriteNumber("stage", stage);
+            }
+            else
+            {
+                w.WriteNull("stage");
+            }
+
+            w.WriteString("message", warning.Message);
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+    }
 
     public static void WriteStream(Utf8JsonWriter w, string name, MaterialStream stream, TernarySystem system)
     {

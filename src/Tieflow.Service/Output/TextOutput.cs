@@ -1,5 +1,6 @@
 using System.Globalization;
 using Spectre.Console;
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 
 namespace Tieflow.Service.Output;
@@ -46,6 +47,15 @@ internal static class TextOutput
 
     /// <summary>A number in a fixed format, or "not defined" when it is not finite.</summary>
     public static string Num(double v, string format) => double.IsFinite(v) ? v.ToString(format, CultureInfo.InvariantCulture) : "not defined";
+
+    /// <summary>One line per warning; stage warnings start with the mark of their rows in the table.</summary>
+    public static void WriteWarnings(IAnsiConsole console, IReadOnlyList<CascadeWarning> warnings)
+    {
+        foreach (CascadeWarning w in warnings)
+        {
+            console.WriteLine($"{(w.Stage is null ? "warning" : "* warning")}: {w.Message}");
+        }
+    }
 
     public static void WriteNotice(IAnsiConsole console) => console.WriteLine(Notices.Advisory);
 }

@@ -24,15 +24,20 @@ internal static class ActivityAssertions
     }
 
     /// <summary>
-    /// A cold-start split of <paramref name="overall"/> is sound: a one-phase answer only where the stability test agrees;
-    /// otherwise isoactive to 1e-9, balanced to 1e-12, not the trivial solution, roles kept and the phase share in [0, 1].
+    /// A cold-start split of <paramref name="overall"/> (mole basis) is sound and has the expected number of phases:
+    /// one phase only where the model's stability test and an independent tangent-plane test on a dense grid agree;
+    /// two phases isoactive to 1e-9, balanced to 1e-12, not the trivial solution, roles kept and the phase share in [0, 1].
     /// </summary>
-    public static void SplitIsSound(ActivityCoefficientModel model, Ternary overall, double temperatureKelvin)
+    public static void SplitIsSound(ActivityCoefficientModel model, Ternary overall, double temperatureKelvin, bool twoPhase)
     {
         PhaseSplit split = model.Split(overall, temperatureKelvin);
+        Assert.True(split.IsTwoPhase == twoPhase, $"{overall}: expected {(twoPhase ? "two phases" : "one phase")}, got {(split.IsTwoPhase ? "two" : "one")}");
         if (!split.IsTwoPhase)
         {
             Assert.True(model.TestStability(overall, temperatureKelvin).IsStable, $"{overall} one phase but unstable");
+            var reference = new GibbsMinimisation(model, temperatureKelvin, divisions: 200);
+            Span<double> where = stackalloc double[3];
+            Assert.True(reference.GridTpd([overall.Solute, overall.Diluent, overall.Solvent], where) > -1e-12, $"{overall} one phase but the grid finds a lower tangent plane");
             return;
         }
 

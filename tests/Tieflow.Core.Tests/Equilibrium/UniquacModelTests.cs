@@ -108,14 +108,16 @@ public sealed class UniquacModelTests
         Assert.Equal(expected, lg[1], 1e-12);
     }
 
-    public static TheoryData<double, double> Grid()
+    public static TheoryData<double, double, bool> Grid()
     {
-        var data = new TheoryData<double, double>();
+        // Two phases except the solvent-richest point at 30 % solute, beyond the binodal (an independent tangent-plane
+        // test on a dense grid agrees, see ActivityAssertions.SplitIsSound).
+        var data = new TheoryData<double, double, bool>();
         foreach (double s in new[] { 0.0, 0.05, 0.1, 0.2, 0.3 })
         {
             foreach (double v in new[] { 0.1, 0.3, 0.5, 0.7, 0.9 })
             {
-                data.Add(s, v);
+                data.Add(s, v, !(s == 0.3 && v == 0.9));
             }
         }
 
@@ -124,11 +126,11 @@ public sealed class UniquacModelTests
 
     [Theory]
     [MemberData(nameof(Grid))]
-    public void Split_ColdStartOnAGrid_SatisfiesIsoactivityAndBalance(double solute, double solventShare)
+    public void Split_ColdStartOnAGrid_SatisfiesIsoactivityAndBalance(double solute, double solventShare, bool twoPhase)
     {
         // Self-consistency: the split of the published parameters must satisfy isoactivity and the balance.
         var z = new Ternary(solute, (1 - solute) * (1 - solventShare), (1 - solute) * solventShare);
-        ActivityAssertions.SplitIsSound(ReferenceUniquac.WaterEthanolBenzene(), z, T);
+        ActivityAssertions.SplitIsSound(ReferenceUniquac.WaterEthanolBenzene(), z, T, twoPhase);
     }
 
     [Fact]

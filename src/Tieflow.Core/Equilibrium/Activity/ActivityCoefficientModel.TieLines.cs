@@ -116,12 +116,7 @@ public abstract partial class ActivityCoefficientModel
     private bool FamilySplit(ReadOnlySpan<double> state, double temperatureKelvin, ReadOnlySpan<double> z, Span<double> xa, Span<double> xb, out double beta, ref int iterations)
     {
         beta = 0;
-        TieLineFamily family;
-        try
-        {
-            family = Family(temperatureKelvin);
-        }
-        catch (EquilibriumException)
+        if (FamilyOrNull(temperatureKelvin) is not { } family)
         {
             return false; // no tie lines at this temperature
         }
@@ -273,20 +268,6 @@ public abstract partial class ActivityCoefficientModel
         Ternary dz = z - r;
         return ((dz.Solute * de.Solute) + (dz.Diluent * de.Diluent) + (dz.Solvent * de.Solvent)) /
             ((de.Solute * de.Solute) + (de.Diluent * de.Diluent) + (de.Solvent * de.Solvent));
-    }
-
-    private TieLineFamily Family(double temperatureKelvin)
-    {
-        Preconditions.Positive(temperatureKelvin);
-        TieLineFamily? cached = _family;
-        if (cached is not null && cached.TemperatureKelvin.Equals(temperatureKelvin))
-        {
-            return cached;
-        }
-
-        TieLineFamily family = TraceFamily(temperatureKelvin);
-        _family = family;
-        return family;
     }
 
     // Tie lines from the binary end to the plait point, stepping down the raffinate's diluent fraction: that falls

@@ -15,12 +15,17 @@ namespace Tieflow.Core.Equilibrium.Activity;
 /// </para>
 /// <para>
 /// Split from a cold start: a tangent-plane-distance stability test (Michelsen 1982) from trial phases rich in each
-/// component finds whether the mixture splits and gives a trial phase; successive substitution of the distribution
+/// component, then from trial phases near the mixture along the principal directions of the curvature of the Gibbs
+/// energy of mixing (a negative curvature, inside the spinodal, proves instability by itself), finds whether the
+/// mixture splits and gives a trial phase; successive substitution of the distribution
 /// ratios with the Rachford-Rice equation for the phase fraction follows (with dominant-eigenvalue acceleration every
 /// fifth step), then Newton's method on the mole numbers of one phase (analytic Jacobian where the model has one,
 /// finite differences otherwise; step halving on the residual) polishes to isoactivity within <see cref="Tolerance"/>.
 /// Near the plait point, where substitution crawls and Newton may not converge from its start, the tie lines traced
-/// for the temperature locate the tie line through the mixture. When those tie lines are already traced and
+/// for the temperature locate the tie line through the mixture, and a mixture that passes every trial phase is
+/// checked against them too (a metastable mixture near the plait point), so the answer never depends on what the
+/// model computed before; as a last resort a Newton descent on the Gibbs energy itself finds the split of an unstable
+/// mixture whose tie line is too short to have been traced. When those tie lines are already traced and
 /// <see cref="ColdStartFromTieLines"/> is set, a cold start begins with Newton from the two traced tie lines that
 /// bracket the mixture instead (same answer, far less work). A converged answer whose phases coincide (the trivial
 /// solution) is never returned as two phases. A warm start skips the stability test and starts from the given phases,
@@ -28,8 +33,9 @@ namespace Tieflow.Core.Equilibrium.Activity;
 /// </para>
 /// <para>
 /// Tie lines with a given solute fraction at one end are found by Newton's method on isoactivity with that fraction
-/// held, started from the tie-line family traced once per temperature from the binary end toward the plait point (the
-/// family is cached for the last temperature used; the model is safe to use from several threads).
+/// held, started from the tie-line family traced once per temperature from the binary end toward the plait point (a
+/// few milliseconds; the families of the last eight temperatures used are kept; the model is safe to use from several
+/// threads).
 /// </para>
 /// </remarks>
 public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
@@ -42,8 +48,6 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     // less than this; leave a stability trial once it is proven unstable and changes by less than this.
     private const double NewtonSwitch = 1e-3;
     private const double TrialExit = 1e-2;
-
-    private volatile TieLineFamily? _family;
 
     private protected ActivityCoefficientModel(TernarySystem system, TemperatureRange validTemperatures)
     {
@@ -72,8 +76,8 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// Whether a split without a warm start may start from the tie lines already traced for that temperature (by a
-    /// tie-line or solute-limit call, or by an earlier split near the plait point) instead of running the stability
-    /// test first. The answer is the same to the tolerance; only the work differs. Default true.
+    /// tie-line or solute-limit call, or by an earlier split) instead of running the stability test first. The answer
+    /// is the same to the tolerance; only the work differs. Default true.
     /// </summary>
     public bool ColdStartFromTieLines { get; init; } = true;
 
@@ -126,10 +130,11 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     /// <summary>
     /// Tangent-plane-distance stability test of a mixture (fractions on the system's basis) from trial phases rich in
-    /// each component present, and, when tie lines have been traced at this temperature, from the ends of the tie line
-    /// nearest the mixture. A test that finds no negative distance is strong evidence, not proof, of stability: in the
-    /// thin metastable band along the binodal near the plait point the component-rich trial phases can all fall back to
-    /// the mixture.
+    /// each component present, from trial phases near the mixture along the principal directions of the curvature of
+    /// the Gibbs energy of mixing (negative curvature alone proves instability), and from the ends of the traced tie
+    /// line nearest the mixture (traced for the temperature when needed). A test that finds no negative distance is
+    /// strong evidence, not proof, of stability; <see cref="Split(Ternary, double)"/> also checks the mixture against
+    /// the traced tie lines.
     /// </summary>
     /// <exception cref="ArgumentException">When the fractions are invalid.</exception>
     public StabilityTestResult TestStability(Ternary overall, double temperatureKelvin)
@@ -141,6 +146,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> trial = stackalloc double[N];
         int iterations = 0;
         bool unstable = FindUnstableTrial(state, zs, trial, out double tm, ref iterations, stopAtFirst: false)
+            || FindUnstableNearFeed(state, zs, trial, out tm, ref iterations)
             || FindUnstableFromFamily(state, temperatureKelvin, zs, trial, out tm, ref iterations);
         Ternary w = unstable ? new Ternary(trial[0], trial[1], trial[2]).Normalized() : z;
         return new StabilityTestResult(!unstable, tm, System.FromMole(w), iterations);
@@ -220,8 +226,6 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         return LnGammaDerivatives(state, x, lnGamma, derivatives);
     }
 
-    private bool IsFamilyCached(double temperatureKelvin) => _family is { } f && f.TemperatureKelvin.Equals(temperatureKelvin);
-
     private static bool IsComposition(in Ternary t) =>
         t.Solute >= 0 && t.Diluent >= 0 && t.Solvent >= 0 && double.IsFinite(t.Sum) && t.Sum > 0;
 
@@ -274,13 +278,14 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         Span<double> trial = stackalloc double[N];
         Span<double> zCopy = stackalloc double[N];
         z.CopyTo(zCopy);
-        if (useFamily && ColdStartFromTieLines && _family is { } cached && cached.TemperatureKelvin.Equals(temperatureKelvin)
+        if (useFamily && ColdStartFromTieLines && CachedFamily(temperatureKelvin) is { } cached
             && FamilyStart(state, cached, zCopy, xa, xb, out beta, ref iterations))
         {
             return ToSplit(overall, xa, xb, beta, iterations);
         }
 
-        bool unstable = FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true);
+        bool unstable = FindUnstableTrial(state, zCopy, trial, out _, ref iterations, stopAtFirst: true)
+            || FindUnstableNearFeed(state, zCopy, trial, out _, ref iterations);
         if (unstable)
         {
             // Stationarity of the tangent plane distance gives W_i / z_i = gamma_i(z) / gamma_i(w): the starting ratios.
@@ -296,11 +301,11 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
             }
         }
 
-        // Near the plait point the trial phases may all fall back to the mixture, and substitution crawls: there the
-        // tie lines traced for this temperature locate the one through the mixture. They are traced for that (a few
-        // milliseconds) when the mixture is known to be unstable; a mixture the trial phases found stable is checked
-        // against them only when they are already there, so that one-phase splits at ever new temperatures stay cheap.
-        if (useFamily && (unstable || IsFamilyCached(temperatureKelvin)) && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
+        // Near the plait point a metastable mixture can pass every trial phase, and substitution crawls: there the
+        // tie lines traced for this temperature locate the one through the mixture. They are consulted for every
+        // mixture that is not split otherwise (traced once per temperature, a few milliseconds, and kept for the last
+        // few temperatures), so that the answer never depends on what the model computed before.
+        if (useFamily && FamilySplit(state, temperatureKelvin, zCopy, xa, xb, out beta, ref iterations))
         {
             return ToSplit(overall, xa, xb, beta, iterations);
         }
@@ -308,6 +313,11 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
         if (!unstable)
         {
             return PhaseSplit.OnePhase(overall, iterations);
+        }
+
+        if (MinimiseGibbs(state, zCopy, trial, xa, xb, out beta, ref iterations))
+        {
+            return ToSplit(overall, xa, xb, beta, iterations);
         }
 
         throw new EquilibriumException(
@@ -321,12 +331,10 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
     private bool FindUnstableFromFamily(ReadOnlySpan<double> state, double temperatureKelvin, ReadOnlySpan<double> z, Span<double> trial, out double minTm, ref int iterations)
     {
         minTm = 0;
-        if (!IsFamilyCached(temperatureKelvin))
+        if (FamilyOrNull(temperatureKelvin) is not { } family)
         {
             return false;
         }
-
-        TieLineFamily family = Family(temperatureKelvin);
 
         var zt = new Ternary(z[0], z[1], z[2]);
         double bestDistance = double.PositiveInfinity;
@@ -416,7 +424,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
     // Tangent plane distance from each start (mole fractions, three per start): true with the (unnormalised) trial
     // phase W of the most negative distance found.
-    private bool FindUnstableTrial(ReadOnlySpan<double> state, ReadOnlySpan<double> z, ReadOnlySpan<double> starts, Span<double> trial, out double minTm, ref int iterations, bool stopAtFirst)
+    private bool FindUnstableTrial(ReadOnlySpan<double> state, ReadOnlySpan<double> z, ReadOnlySpan<double> starts, Span<double> trial, out double minTm, ref int iterations, bool stopAtFirst, double threshold = -1e-10)
     {
         Span<double> d = stackalloc double[N];
         Span<double> lg = stackalloc double[N];
@@ -484,7 +492,7 @@ public abstract partial class ActivityCoefficientModel : IPhaseEquilibrium
 
             // A negative distance anywhere proves instability, converged or not (substitution lowers it step by
             // step, slowly near the plait point).
-            if (tm < -1e-10 && tm < minTm)
+            if (tm < threshold && tm < minTm)
             {
                 minTm = tm;
                 w.CopyTo(best);

@@ -363,8 +363,64 @@ public sealed class TieLineTableModel : IPhaseEquilibrium
         int j = ec.Locate(sigma);
         double es = ec.Value(Solute, j, sigma);
         double ev = ec.Value(Solvent, j, sigma);
-        raffinate = new Ternary(rs, 1 - rs - rv, rv);
-        extract = new Ternary(es, 1 - es - ev, ev);
+        raffinate = InTriangle(rs, rv);
+        extract = InTriangle(es, ev);
+    }
+
+    // A branch point from its solute and solvent fractions, kept in the triangle: with few rows the two channels are
+    // interpolated independently and their sum can pass 1 (a negative diluent), or one can dip below 0; such a point
+    // is moved to the nearest side (see SparseTableAdvice, which reports where).
+    private static Ternary InTriangle(double s, double v)
+    {
+        s = Math.Clamp(s, 0, 1);
+        v = Math.Clamp(v, 0, 1);
+        double d = 1 - s - v;
+        if (d < 0)
+        {
+            double sum = s + v;
+            return new Ternary(s / sum, 0, v / sum);
+        }
+
+        return new Ternary(s, d, v);
+    }
+
+    /// <summary>
+    /// Why this table is too sparse to interpolate safely, one line per finding (empty when it is not): fewer than
+    /// three tie lines, or stretches where the interpolated branches leave the triangle and are held on its side.
+    /// </summary>
+    public IReadOnlyList<string> SparseTableAdvice()
+    {
+        var advice = new List<string>();
+        if (_tieLines.Length < 3)
+        {
+            advice.Add($"Only {_tieLines.Length} tie lines: the binodal between and beyond them is guessed from too few points; add tie lines (five or more over the range of use is common practice).");
+        }
+
+        double[] taus = _bracketTau;
+        for (int k = 0; k < taus.Length - 1; k++)
+        {
+            bool outside = false;
+            for (int i = 1; i < 40 && !outside; i++)
+            {
+                double tau = taus[k] + ((taus[k + 1] - taus[k]) * i / 40.0);
+                int a = _raffinate.Locate(tau);
+                double sigma = _conjugate.Value(0, a, tau);
+                int b = _extract.Locate(sigma);
+                outside = Outside(_raffinate.Value(Solute, a, tau), _raffinate.Value(Solvent, a, tau))
+                    || Outside(_extract.Value(Solute, b, sigma), _extract.Value(Solvent, b, sigma));
+            }
+
+            if (outside)
+            {
+                Evaluate(taus[k], out Ternary from, out _);
+                Evaluate(taus[k + 1], out Ternary to, out _);
+                advice.Add($"Between raffinate solute fractions {F(from.Solute)} and {F(to.Solute)} the interpolated tie lines leave the triangle (held on its side): the table is too sparse there; add tie lines.");
+            }
+        }
+
+        return advice;
+
+        static bool Outside(double s, double v) => s < -1e-9 || v < -1e-9 || s + v > 1 + 1e-9;
     }
 
     // Signed distance of (zs, zv) from the line through the tie line's ends, in the (solute, solvent) plane.
