@@ -17,48 +17,62 @@ internal static class MurphreeSplitter
     private const int MaxSecant = 25;
     private const int ScanCells = 64;
 
-    public static MurphreeSplit Split(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double yStart, int stage)
+    /// <summary>Splits z; <paramref name="slope"/> is dg/dy from the previous step (0 when unknown), updated here.</summary>
+    public static MurphreeSplit Split(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double yStart, ref double slope, int stage)
     {
         double yMax = envelope.ExtractMax;
-        double tolerance = 1e-14 * Math.Max(yStart, 1e-3);
+        double tolerance = 1e-13 * Math.Max(yStart, 1e-3);
         double y0 = Math.Clamp(yStart, 0, yMax);
-        double g0 = Evaluate(envelope, z, xIn, efficiency, y0);
-        if (g0 == 0)
+        var p0 = new Point(envelope, xIn, efficiency, y0, z);
+
+        // In steady operation and slow transients the previous answer still holds, or one Newton step with the
+        // previous slope finds the new one: one or two evaluations (two model calls each) per step.
+        if (slope != 0 && Math.Abs(p0.G / slope) <= tolerance)
         {
-            return Finish(envelope, z, xIn, efficiency, y0, stage);
+            return Finish(p0, z, stage);
         }
 
-        double h = Math.Max(1e-7, 1e-6 * y0);
-        double y1 = y0 + h <= yMax ? y0 + h : y0 - h;
-        double g1 = Evaluate(envelope, z, xIn, efficiency, y1);
-        for (int i = 0; i < MaxSecant; i++)
+        double y1;
+        if (slope != 0)
         {
-            if (g1 == g0)
-            {
-                break;
-            }
+            y1 = y0 - (p0.G / slope);
+        }
+        else
+        {
+            double h = Math.Max(1e-7, 1e-6 * y0);
+            y1 = y0 + h <= yMax ? y0 + h : y0 - h;
+        }
 
-            double y2 = y1 - (g1 * (y1 - y0) / (g1 - g0));
-            if (!(y2 >= 0 && y2 <= yMax))
+        if (y1 >= 0 && y1 <= yMax)
+        {
+            var p1 = new Point(envelope, xIn, efficiency, y1, z);
+            for (int i = 0; i < MaxSecant; i++)
             {
-                break;
-            }
+                if (p1.G == p0.G)
+                {
+                    break;
+                }
 
-            if (Math.Abs(y2 - y1) <= tolerance)
-            {
-                return Finish(envelope, z, xIn, efficiency, y2, stage);
-            }
+                double s = (p1.G - p0.G) / (p1.Y - p0.Y);
+                if (Math.Abs(p1.G / s) <= tolerance)
+                {
+                    slope = s;
+                    return Finish(p1, z, stage);
+                }
 
-            (y0, g0) = (y1, g1);
-            y1 = y2;
-            g1 = Evaluate(envelope, z, xIn, efficiency, y1);
-            if (g1 == 0)
-            {
-                return Finish(envelope, z, xIn, efficiency, y1, stage);
+                double y2 = p1.Y - (p1.G / s);
+                if (!(y2 >= 0 && y2 <= yMax))
+                {
+                    break;
+                }
+
+                p0 = p1;
+                p1 = new Point(envelope, xIn, efficiency, y2, z);
             }
         }
 
-        return Finish(envelope, z, xIn, efficiency, Scan(envelope, z, xIn, efficiency, stage), stage);
+        slope = 0;
+        return Finish(new Point(envelope, xIn, efficiency, Scan(envelope, z, xIn, efficiency, stage), z), z, stage);
     }
 
     private static double Scan(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, int stage)
@@ -113,12 +127,10 @@ internal static class MurphreeSplitter
         return 0.5 * (a + b);
     }
 
-    private static MurphreeSplit Finish(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double y, int stage)
+    private static MurphreeSplit Finish(in Point p, Ternary z, int stage)
     {
-        TieLine tie = envelope.FromExtract(y);
-        double xStar = tie.Raffinate.Solute;
-        Ternary r = envelope.Raffinate(xIn - (efficiency * (xIn - xStar)));
-        Ternary e = tie.Extract;
+        Ternary r = p.Raffinate;
+        Ternary e = p.Tie.Extract;
         Ternary d = e - r;
         double beta = Dot(z - r, d) / Dot(d, d);
         if (!(beta >= -1e-9 && beta <= 1 + 1e-9))
@@ -128,7 +140,7 @@ internal static class MurphreeSplitter
                 $"(extract share {beta:G6}); the stage has left the two-phase region. Check the solvent-to-feed ratio of the scenario.");
         }
 
-        return new MurphreeSplit(r, e, Math.Clamp(beta, 0, 1), y, xStar);
+        return new MurphreeSplit(r, e, Math.Clamp(beta, 0, 1), p.Y, p.Tie.Raffinate.Solute);
     }
 
     private static double Evaluate(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double y)
@@ -142,6 +154,26 @@ internal static class MurphreeSplitter
         (a.Solute * ((b.Diluent * c.Solvent) - (b.Solvent * c.Diluent)))
         - (a.Diluent * ((b.Solute * c.Solvent) - (b.Solvent * c.Solute)))
         + (a.Solvent * ((b.Solute * c.Diluent) - (b.Diluent * c.Solute)));
+
+    /// <summary>One evaluation of the stage condition at extract solute y, keeping the phases for the answer.</summary>
+    private readonly struct Point
+    {
+        public Point(EnvelopeBranches envelope, double xIn, double efficiency, double y, Ternary z)
+        {
+            Y = y;
+            Tie = envelope.FromExtract(y);
+            Raffinate = envelope.Raffinate(xIn - (efficiency * (xIn - Tie.Raffinate.Solute)));
+            G = Det(Raffinate, Tie.Extract, z);
+        }
+
+        public double Y { get; }
+
+        public TieLine Tie { get; }
+
+        public Ternary Raffinate { get; }
+
+        public double G { get; }
+    }
 
     private static double Dot(Ternary a, Ternary b) => (a.Solute * b.Solute) + (a.Diluent * b.Diluent) + (a.Solvent * b.Solvent);
 }

@@ -52,6 +52,7 @@ internal sealed class UnitDynamics
     private readonly Ternary[] _settlerRaffinate;
     private readonly Ternary[] _settlerExtract;
     private readonly double[] _warmY;
+    private readonly double[] _slope;
 
     private readonly MurphreeSplit[] _split;
     private readonly Ternary[] _layerRaffinate;
@@ -85,6 +86,7 @@ internal sealed class UnitDynamics
         _settlerRaffinate = new Ternary[_n];
         _settlerExtract = new Ternary[_n];
         _warmY = new double[_n];
+        _slope = new double[_n];
         _split = new MurphreeSplit[_n];
         _layerRaffinate = new Ternary[_n];
         _layerExtract = new Ternary[_n];
@@ -177,6 +179,7 @@ internal sealed class UnitDynamics
         if (t != _envelope.TemperatureKelvin)
         {
             _envelope = new EnvelopeBranches(_model, t);
+            Array.Clear(_slope);
         }
 
         // Compositions and phase shares, stage by stage from the feed end: a stage's entering raffinate is the
@@ -185,7 +188,7 @@ internal sealed class UnitDynamics
         for (int k = 0; k < _n; k++)
         {
             Ternary z = (1 / _mixer[k].Sum) * _mixer[k];
-            MurphreeSplit split = MurphreeSplitter.Split(_envelope, z, raffinateIn.Solute, inputs.Efficiencies[k], _warmY[k], k + 1);
+            MurphreeSplit split = MurphreeSplitter.Split(_envelope, z, raffinateIn.Solute, inputs.Efficiencies[k], _warmY[k], ref _slope[k], k + 1);
             _split[k] = split;
             _warmY[k] = split.ExtractSolute;
             _layerRaffinate[k] = _raffinateLayer[k] > 0 ? (1 / _settlerRaffinate[k].Sum) * _settlerRaffinate[k] : split.Raffinate;

@@ -53,7 +53,7 @@ internal sealed class TruthSampler
 
     private double? TheoreticalStages(MaterialStream feed, MaterialStream solvent, double raffinate)
     {
-        // The design calculation costs milliseconds; in steady operation its inputs repeat exactly.
+        // In steady operation the inputs repeat exactly.
         var key = (feed, solvent, raffinate);
         if (key == _lastKey)
         {
@@ -63,7 +63,10 @@ internal sealed class TruthSampler
         _lastKey = key;
         try
         {
-            _lastStages = _design!.FindStages(feed, solvent, DesignTarget.RaffinateFraction(raffinate), 1.0).FractionalStages;
+            // The design's stage stepping alone (no minimum-solvent search, no cascade solve): about a stage solve per stage.
+            _lastStages = raffinate > 0 && raffinate < feed.Composition.Solute
+                ? _design!.CountStages(feed, solvent.Composition, solvent.Flow, raffinate, [1.0])
+                : null;
         }
         catch (Exception e) when (e is CascadeException or InfeasibleSpecificationException or ArgumentOutOfRangeException)
         {
