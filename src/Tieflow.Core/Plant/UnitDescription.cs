@@ -46,8 +46,11 @@ public sealed record UnitDescription
     /// <summary>The unit's lab sample points.</summary>
     public required IReadOnlyList<LabPoint> Labs { get; init; }
 
-    /// <summary>Overrides of the alert settings, by key, as written (validated by the analysis that uses them).</summary>
-    public IReadOnlyDictionary<string, string> AlertOverrides { get; init; } = new Dictionary<string, string>();
+    /// <summary>
+    /// Overrides of the analysis and alert settings by key, as read from the plant file's <c>alerts</c> object: numbers as
+    /// written, durations in seconds.
+    /// </summary>
+    public IReadOnlyDictionary<string, double> AlertOverrides { get; init; } = new Dictionary<string, double>();
 
     /// <summary>The final raffinate stream.</summary>
     public UnitStream FinalRaffinate => UnitStream.FinalRaffinate(Stages);

@@ -163,7 +163,8 @@ public static class CaseReader
         return new CascadeCase(o.File, system, t.Value, kind, stages ?? 0, feed.Value, solvent.Value, efficiencies);
     }
 
-    private static double[]? ReadEfficiencies(JsonObject o, int? stages)
+    /// <summary>Reads the optional <c>efficiency</c> member: one number for every stage, or one per stage; 1 when absent.</summary>
+    public static double[]? ReadEfficiencies(JsonObject o, int? stages)
     {
         if (o.Get("efficiency", required: false) is not { } v)
         {
@@ -208,7 +209,8 @@ public static class CaseReader
         return result;
     }
 
-    private static SystemFile? ReadSystem(JsonObject o)
+    /// <summary>Reads the <c>system</c> member of an object: an inline system, or a path relative to the file that holds it.</summary>
+    public static SystemFile? ReadSystem(JsonObject o)
     {
         if (o.Get("system") is not { } v)
         {

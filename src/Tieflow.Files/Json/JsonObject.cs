@@ -39,7 +39,7 @@ public readonly partial struct JsonObject
     {
         foreach (JsonProperty p in _value.Element.EnumerateObject())
         {
-            if (p.Name != "notes")
+            if (p.Name != "notes" && !_value.IsSchemaReference(p.Name))
             {
                 yield return (p.Name, new JsonValue(p.Value, _value.File, Child(_value.Path, p.Name), _value.Problems));
             }

@@ -47,7 +47,7 @@ public readonly struct JsonValue
             {
                 Problems.Add(File, at, "this key appears twice; write it once");
             }
-            else if (property.Name != "notes" && Array.IndexOf(allowedKeys, property.Name) < 0)
+            else if (property.Name != "notes" && !IsSchemaReference(property.Name) && Array.IndexOf(allowedKeys, property.Name) < 0)
             {
                 Problems.Add(File, at, $"unknown key '{property.Name}'; expected one of: {string.Join(", ", allowedKeys)} (or 'notes')");
             }
@@ -55,6 +55,9 @@ public readonly struct JsonValue
 
         return new JsonObject(this);
     }
+
+    /// <summary>True for the <c>$schema</c> key of a file's root object, which names the file's JSON Schema for editors and is otherwise ignored.</summary>
+    public bool IsSchemaReference(string key) => key == "$schema" && Path == "$";
 
     public IReadOnlyList<JsonValue>? AsArray(int minimumCount = 0)
     {

@@ -9,8 +9,8 @@ internal static class CheckCommand
 {
     public static Command Create(CliContext context)
     {
-        var files = new Argument<string[]>("FILE") { Description = "System or case files to validate", Arity = ArgumentArity.OneOrMore };
-        var command = new Command("check", "Validates system and case files; exit 0 when all are valid, 2 with every problem listed otherwise.") { files };
+        var files = new Argument<string[]>("FILE") { Description = "Plant, scenario, system or case files to validate", Arity = ArgumentArity.OneOrMore };
+        var command = new Command("check", "Validates plant, scenario, system and case files; exit 0 when all are valid, 2 with every problem listed otherwise.") { files };
         command.SetAction(parsed => CommandRunner.Run(context, () => Run(context, parsed.GetValue(files)!)));
         return command;
     }
@@ -64,11 +64,13 @@ internal static class CheckCommand
                 "cascade case" => v => CaseReader.ReadCascade(v),
                 "design case" => v => CaseReader.ReadDesign(v),
                 "reconcile case" => v => ReconcileCaseReader.Read(v),
+                "plant" => v => PlantReader.Read(v),
+                "scenario" => v => ScenarioReader.Read(v),
                 _ => null,
             };
             if (read is null)
             {
-                problems.Add(path, "$", "cannot tell what kind of file this is; expected a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\", or with \"nodes\" for a reconcile case)");
+                problems.Add(path, "$", "cannot tell what kind of file this is; expected a plant file (with \"site\" and \"units\"), a scenario file (with \"plant\" and \"duration\"), a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\", or with \"nodes\" for a reconcile case)");
             }
             else
             {
@@ -87,6 +89,16 @@ internal static class CheckCommand
         }
 
         bool Has(string key) => root.TryGetProperty(key, out _);
+        if (Has("units") && Has("site"))
+        {
+            return "plant";
+        }
+
+        if (Has("plant") && Has("duration"))
+        {
+            return "scenario";
+        }
+
         if (Has("components") && Has("equilibrium"))
         {
             return "system";

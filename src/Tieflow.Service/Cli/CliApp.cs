@@ -32,6 +32,7 @@ internal static class CliApp
         root.Subcommands.Add(CalcCommands.Create(context));
         root.Subcommands.Add(CheckCommand.Create(context));
         root.Subcommands.Add(UaCommands.Create(context));
+        root.Subcommands.Add(ReplayCommand.Create(context));
         return root;
     }
 }

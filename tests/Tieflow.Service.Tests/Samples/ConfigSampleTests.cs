@@ -8,9 +8,9 @@ public sealed class ConfigSampleTests
     public static TheoryData<string> SampleFiles()
     {
         var data = new TheoryData<string>();
-        foreach (string file in Directory.GetFiles(RepositoryPaths.ConfigSamples, "*.json").Order(StringComparer.Ordinal))
+        foreach (string file in Directory.GetFiles(RepositoryPaths.ConfigSamples, "*.json", SearchOption.AllDirectories).Order(StringComparer.Ordinal))
         {
-            data.Add(Path.GetFileName(file));
+            data.Add(Path.GetRelativePath(RepositoryPaths.ConfigSamples, file));
         }
 
         return data;
@@ -45,7 +45,7 @@ public sealed class ConfigSampleTests
     [Fact]
     public void Samples_CoverEveryModelAndEveryCaseKind()
     {
-        string[] texts = Directory.GetFiles(RepositoryPaths.ConfigSamples, "*.json").Select(File.ReadAllText).ToArray();
+        string[] texts = Directory.GetFiles(RepositoryPaths.ConfigSamples, "*.json", SearchOption.AllDirectories).Select(File.ReadAllText).ToArray();
         foreach (string model in new[] { "\"tie-lines\"", "\"nrtl\"", "\"uniquac\"", "\"distribution\"" })
         {
             Assert.Contains(texts, t => t.Contains("\"model\": " + model, StringComparison.Ordinal));

@@ -1,0 +1,166 @@
+using MathNet.Numerics.Distributions;
+using Tieflow.Core.Plant;
+
+namespace Tieflow.Core.Monitoring.Signals;
+
+/// <summary>
+/// Checks the readings of one tag in time order: quality from the source, transmitter range, staleness, a frozen
+/// signal (variance test against the instrument's sigma) and spikes (robust z-score). For an analyzer only new values
+/// count: a value that arrives sooner than half an update interval after the last one is a held repeat. Pure and
+/// deterministic: time comes from the readings.
+/// </summary>
+public sealed class SignalChecker
+{
+    private readonly Instrument _instrument;
+    private readonly SignalCheckSettings _settings;
+    private readonly double[] _recent;
+    private readonly double[] _scratch;
+    private readonly double _frozenCritical;
+    private int _count;
+    private int _next;
+    private DateTimeOffset? _lastUpdate;
+
+    /// <summary>Creates the checker of one instrument.</summary>
+    /// <param name="instrument">The instrument (sigma and range in its engineering unit).</param>
+    /// <param name="settings">Check settings; defaults when null.</param>
+    public SignalChecker(Instrument instrument, SignalCheckSettings? settings = null)
+    {
+        ArgumentNullException.ThrowIfNull(instrument);
+        _instrument = instrument;
+        _settings = settings ?? new SignalCheckSettings();
+        int history = Math.Max(3, instrument.IsAnalyzer ? _settings.AnalyzerHistory : _settings.ContinuousHistory);
+        _recent = new double[history];
+        _scratch = new double[history];
+        _frozenCritical = ChiSquared.InvCDF(history - 1, _settings.FrozenProbability);
+        UpdateInterval = instrument.UpdateInterval ?? _settings.ContinuousUpdateInterval;
+    }
+
+    /// <summary>Time between updates that the checks expect.</summary>
+    public TimeSpan UpdateInterval { get; }
+
+    /// <summary>The tag's current problem.</summary>
+    public SignalProblem Problem { get; private set; }
+
+    /// <summary>Time of the last new value, or null before the first.</summary>
+    public DateTimeOffset? LastUpdate => _lastUpdate;
+
+    /// <summary>Checks one reading.</summary>
+    /// <param name="sample">The reading, in the tag's engineering unit.</param>
+    public TagCheckState Check(in SignalSample sample)
+    {
+        if (_instrument.IsAnalyzer && _lastUpdate is { } last && sample.Time - last < UpdateInterval / 2 && sample.Quality != SignalQuality.Bad)
+        {
+            return new TagCheckState(false, false, Problem, Describe(Problem));
+        }
+
+        _lastUpdate = sample.Time;
+        if (sample.Quality == SignalQuality.Bad || !double.IsFinite(sample.Value))
+        {
+            return Set(SignalProblem.BadQuality, used: false);
+        }
+
+        if (!_instrument.InRange(sample.Value))
+        {
+            return Set(SignalProblem.OutOfRange, used: false);
+        }
+
+        if (_count >= _recent.Length && IsSpike(sample.Value))
+        {
+            // A spike is left out, and not added to the history that judges the next reading.
+            return new TagCheckState(false, true, SignalProblem.Spike, Describe(SignalProblem.Spike));
+        }
+
+        _recent[_next] = sample.Value;
+        _next = (_next + 1) % _recent.Length;
+        _count = Math.Min(_count + 1, _recent.Length);
+        if (_count >= _recent.Length && IsFrozen())
+        {
+            return Set(SignalProblem.Frozen, used: false);
+        }
+
+        return Set(SignalProblem.None, used: true);
+    }
+
+    /// <summary>Advances the tag's clock without a reading: marks it stale when no new value came for too long.</summary>
+    /// <param name="now">The data time reached.</param>
+    /// <returns>The tag's problem after the check.</returns>
+    public SignalProblem Advance(DateTimeOffset now)
+    {
+        if (_lastUpdate is { } last && now - last > UpdateInterval * _settings.StaleIntervals)
+        {
+            Set(SignalProblem.Stale, used: false);
+        }
+
+        return Problem;
+    }
+
+    /// <summary>What a person reads about a problem of this tag.</summary>
+    /// <param name="problem">The problem.</param>
+    public string Describe(SignalProblem problem) => problem switch
+    {
+        SignalProblem.None => string.Empty,
+        SignalProblem.BadQuality => $"{_instrument.Tag} reports bad quality",
+        SignalProblem.OutOfRange => $"{_instrument.Tag} reads outside its range [{_instrument.RangeLow:G6}, {_instrument.RangeHigh:G6}] {_instrument.Unit.Name}",
+        SignalProblem.Stale => $"{_instrument.Tag} has sent no new value for more than {_settings.StaleIntervals:G3} update intervals ({UpdateInterval})",
+        SignalProblem.Frozen => $"{_instrument.Tag} has stopped changing: its last {_recent.Length} values vary far less than its sigma {_instrument.Sigma:G3} {_instrument.Unit.Name}",
+        _ => $"{_instrument.Tag} jumped far from its recent values (robust z-score above {_settings.SpikeZ:G3})",
+    };
+
+    private TagCheckState Set(SignalProblem problem, bool used)
+    {
+        Problem = problem;
+        return new TagCheckState(used, true, problem, Describe(problem));
+    }
+
+    private bool IsFrozen()
+    {
+        double mean = 0;
+        for (int i = 0; i < _recent.Length; i++)
+        {
+            mean += _recent[i];
+        }
+
+        mean /= _recent.Length;
+        double ss = 0;
+        for (int i = 0; i < _recent.Length; i++)
+        {
+            double d = _recent[i] - mean;
+            ss += d * d;
+        }
+
+        // Quantisation alone leaves a spread of about resolution^2 / 12 per reading; a signal whose noise is below its
+        // resolution cannot be judged frozen by its spread.
+        double sigma = _instrument.Sigma;
+        if (_instrument.Resolution > 0 && _instrument.Resolution > sigma)
+        {
+            return false;
+        }
+
+        return ss / (sigma * sigma) < _frozenCritical;
+    }
+
+    private bool IsSpike(double value)
+    {
+        Array.Copy(_recent, _scratch, _recent.Length);
+        Array.Sort(_scratch);
+        double median = Median(_scratch);
+        for (int i = 0; i < _scratch.Length; i++)
+        {
+            _scratch[i] = Math.Abs(_scratch[i] - median);
+        }
+
+        Array.Sort(_scratch);
+
+        // 1.4826 makes the median absolute deviation a consistent estimate of sigma for normal data
+        // (Rousseeuw and Croux, J. Am. Stat. Assoc. 88(424), 1993, 1273-1283).
+        double scale = Math.Max(1.4826 * Median(_scratch), _instrument.Sigma);
+        double deviation = Math.Abs(value - median);
+        return deviation / scale > _settings.SpikeZ && deviation > _settings.SpikeSigmas * _instrument.Sigma;
+    }
+
+    private static double Median(double[] sorted)
+    {
+        int n = sorted.Length;
+        return n % 2 == 1 ? sorted[n / 2] : 0.5 * (sorted[(n / 2) - 1] + sorted[n / 2]);
+    }
+}

@@ -1,0 +1,823 @@
+using Tieflow.Core.Cascade;
+using Tieflow.Core.Chemistry;
+using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Monitoring.Alerts;
+using Tieflow.Core.Monitoring.Efficiency;
+using Tieflow.Core.Monitoring.Envelope;
+using Tieflow.Core.Monitoring.Records;
+using Tieflow.Core.Monitoring.Signals;
+using Tieflow.Core.Plant;
+using Tieflow.Core.Reconciliation;
+
+namespace Tieflow.Core.Monitoring;
+
+/// <summary>
+/// The per-unit analysis: time-stamped readings and lab results in, records out. Pure and deterministic: time comes from
+/// the data, and a history cut at time t gives the same records up to t. Steps per window: signal checks per tag; time
+/// alignment (an analyzer's value describes the process its dead time earlier, and only new values count); balance
+/// windows aligned to absolute time, closed once the slowest analyzer's values for them have arrived; the steady-state
+/// gate (Cao-Rhinehart on minute means of the key flows and on the final raffinate analyzer); entrainment by the lever
+/// rule; reconciliation with the phase envelope; stage efficiencies with their sigma, or one efficiency shared by the
+/// stages that cannot be observed, fitted to the terminal streams; solvent accounting; the raffinate soft sensor with its
+/// lab bias; alerts.
+/// </summary>
+public sealed class UnitAnalyzer
+{
+    private const double SecondsPerHour = 3600;
+    private readonly UnitModel _model;
+    private readonly UnitDescription _unit;
+    private readonly AnalysisSettings _settings;
+    private readonly WindowReconciler _reconciler;
+    private readonly Dictionary<string, SignalChecker> _checkers = new(StringComparer.Ordinal);
+    private readonly SortedDictionary<long, Dictionary<string, TagWindow>> _windows = [];
+    private readonly Dictionary<long, HashSet<string>> _windowProblems = [];
+    private readonly Dictionary<string, CaoRhinehartFilter> _steadyFilters = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, (long Minute, double Sum, int Count)> _minuteMeans = new(StringComparer.Ordinal);
+    private readonly AlertBook _alerts;
+    private readonly TimeSpan _lag;
+    private readonly double[] _baseline;
+    private readonly double[] _baselineVariance;
+    private readonly int[] _baselineCount;
+    private readonly double[] _cusum;
+    private readonly double[] _lastEfficiency;
+    private readonly double[] _lastSigma;
+    private readonly double[] _sumEfficiency;
+    private readonly int[] _countEfficiency;
+    private readonly Dictionary<string, int> _suspectRuns = new(StringComparer.Ordinal);
+    private readonly List<(DateTimeOffset Start, DateTimeOffset End, double Value, double Sigma)> _predictions = [];
+    private readonly List<LabComparison> _labComparisons = [];
+    private readonly List<(DateTimeOffset Time, double Value)> _softTrace = [];
+    private readonly CascadeSolver _solver;
+    private readonly string _soluteId;
+    private readonly string _softSensorName;
+    private double _labBias;
+    private double _labBiasVariance;
+    private double _solventBaseline;
+    private int _solventBaselineCount;
+    private double _softLast = double.NaN;
+    private (double Efficiency, double Sigma, double TheoreticalStages, double? Hets) _overall = (double.NaN, double.NaN, double.NaN, null);
+    private DateTimeOffset? _first;
+    private DateTimeOffset? _last;
+    private long _samples;
+    private int _windowCount;
+    private int _reconciledCount;
+    private int _steadyCount;
+    private long _closedThrough = long.MinValue;
+
+    /// <summary>The settings in force (defaults with the plant file's overrides).</summary>
+    public AnalysisSettings Settings => _settings;
+
+    /// <summary>Creates the analysis of one unit.</summary>
+    /// <param name="unit">The unit.</param>
+    /// <param name="settings">Settings before the plant file's overrides; defaults when null.</param>
+    public UnitAnalyzer(UnitDescription unit, AnalysisSettings? settings = null)
+    {
+        ArgumentNullException.ThrowIfNull(unit);
+        _unit = unit;
+        _settings = (settings ?? new AnalysisSettings()).WithOverrides(unit.AlertOverrides);
+        _model = new UnitModel(unit);
+        _reconciler = new WindowReconciler(_model, new WindowReconcilerSettings { NotDeterminableSigma = _settings.NotDeterminableSigma });
+        _alerts = new AlertBook(unit.Id, _settings);
+        _solver = new CascadeSolver(unit.Equilibrium, unit.Nominal.TemperatureKelvin);
+        _soluteId = _model.ComponentIds[0];
+        _softSensorName = $"raffinate-{_soluteId}";
+        foreach (Instrument i in unit.Instruments)
+        {
+            _checkers[i.Tag] = new SignalChecker(i);
+        }
+
+        TimeSpan lag = TimeSpan.Zero;
+        foreach (Instrument i in unit.Instruments)
+        {
+            if (i.DeadTime is { } d && d > lag)
+            {
+                lag = d;
+            }
+        }
+
+        _lag = lag + TimeSpan.FromSeconds(1);
+        int n = unit.Stages;
+        _baseline = new double[n];
+        _baselineVariance = new double[n];
+        _baselineCount = new int[n];
+        _cusum = new double[n];
+        _lastEfficiency = [.. unit.Nominal.Efficiencies];
+        _lastSigma = new double[n];
+        _sumEfficiency = new double[n];
+        _countEfficiency = new int[n];
+        foreach (string tag in KeyTags())
+        {
+            _steadyFilters[tag] = new CaoRhinehartFilter();
+        }
+    }
+
+    /// <summary>The unit model (network and bindings).</summary>
+    public UnitModel Model => _model;
+
+    /// <summary>The alert state.</summary>
+    public AlertBook Alerts => _alerts;
+
+    /// <summary>True when a tag belongs to this unit.</summary>
+    /// <param name="tag">The tag.</param>
+    public bool Owns(string tag) => _checkers.ContainsKey(tag);
+
+    /// <summary>Adds one reading (in time order, give or take a few seconds); closes the windows that are complete.</summary>
+    /// <param name="sample">The reading.</param>
+    /// <param name="output">Receives the records produced.</param>
+    public void Add(in SignalSample sample, List<MonitorRecord> output)
+    {
+        if (!_checkers.TryGetValue(sample.Tag, out SignalChecker? checker))
+        {
+            return;
+        }
+
+        _samples++;
+        _first ??= sample.Time;
+        if (_last is null || sample.Time > _last)
+        {
+            _last = sample.Time;
+        }
+
+        CloseWindows(sample.Time, output);
+        TagCheckState state = checker.Check(sample);
+        InstrumentBinding binding = _model.Binding(sample.Tag)!;
+        Instrument instrument = binding.Instrument;
+        DateTimeOffset aligned = instrument.DeadTime is { } dead ? sample.Time - dead : sample.Time;
+        long w = WindowIndex(aligned);
+        if (state.IsUpdate && state.Problem != SignalProblem.None && w > _closedThrough)
+        {
+            if (!_windowProblems.TryGetValue(w, out HashSet<string>? set))
+            {
+                _windowProblems[w] = set = new HashSet<string>(StringComparer.Ordinal);
+            }
+
+            set.Add(sample.Tag);
+        }
+
+        if (!state.Used || w <= _closedThrough)
+        {
+            return;
+        }
+
+        double value = instrument.Unit.ToBase(sample.Value);
+        if (!_windows.TryGetValue(w, out Dictionary<string, TagWindow>? tags))
+        {
+            _windows[w] = tags = new Dictionary<string, TagWindow>(StringComparer.Ordinal);
+        }
+
+        if (!tags.TryGetValue(sample.Tag, out TagWindow? tw))
+        {
+            tags[sample.Tag] = tw = new TagWindow();
+        }
+
+        tw.Add(value);
+        FeedSteadyFilter(sample.Tag, aligned, value, instrument.IsAnalyzer);
+    }
+
+    /// <summary>Adds a lab result at its reported time (it is never used before).</summary>
+    /// <param name="lab">The result.</param>
+    /// <param name="output">Receives the records produced.</param>
+    public void AddLab(LabResult lab, List<MonitorRecord> output)
+    {
+        ArgumentNullException.ThrowIfNull(lab);
+        ArgumentNullException.ThrowIfNull(output);
+        CloseWindows(lab.Reported, output);
+        string stream = lab.Stream.Contains('/', StringComparison.Ordinal) ? lab.Stream[(lab.Stream.IndexOf('/', StringComparison.Ordinal) + 1)..] : lab.Stream;
+        if (!UnitStream.TryParse(stream, _unit.Stages, _unit.Arrangement, out UnitStream s, out _) || s != _unit.FinalRaffinate || lab.Component != _soluteId)
+        {
+            return;
+        }
+
+        int at = _predictions.FindIndex(p => p.Start <= lab.Sampled && lab.Sampled < p.End);
+        if (at < 0)
+        {
+            return;
+        }
+
+        (_, _, double predicted, double sigma) = _predictions[at];
+        double withBias = predicted + _labBias;
+        double combined = Math.Sqrt((sigma * sigma) + (_settings.LabSigma * _settings.LabSigma) + _labBiasVariance);
+        _labComparisons.Add(new LabComparison(lab.Sampled, lab.Reported, lab.Value, withBias, combined));
+        double z = (lab.Value - withBias) / combined;
+        bool mismatch = Math.Abs(z) > _settings.LabMismatchSigmas;
+        var key = new AlertKey("lab-mismatch", null, null);
+        var evidence = new Dictionary<string, double> { ["lab"] = lab.Value, ["softSensor"] = withBias, ["sigma"] = combined, ["z"] = z, ["threshold"] = _settings.LabMismatchSigmas };
+        _alerts.Update(lab.Reported, key, mismatch, AlertSeverity.Low,
+            $"lab result {lab.Value:G4} for the raffinate sampled {lab.Sampled:u} differs from the soft sensor {withBias:G4} by {Math.Abs(z):F1} sigma",
+            evidence, output, TimeSpan.Zero);
+        if (!mismatch)
+        {
+            // A result that agrees clears the alert at once; the off-delay is for conditions, not for single results.
+            _alerts.Update(lab.Reported + _settings.OffDelay, key, false, AlertSeverity.Low, string.Empty, evidence, output);
+        }
+
+        // The bias is learned only now, at the report time (an EWMA of lab minus model with its variance).
+        double difference = lab.Value - predicted;
+        double weight = _settings.LabBiasWeight;
+        double previous = _labBias;
+        _labBias = ((1 - weight) * _labBias) + (weight * difference);
+        _labBiasVariance = ((1 - weight) * _labBiasVariance) + (weight * (difference - previous) * (difference - _labBias));
+        _labBiasVariance = Math.Max(_labBiasVariance, weight / (2 - weight) * _settings.LabSigma * _settings.LabSigma);
+    }
+
+    /// <summary>Closes every window complete by a data time (call at the end of a run with the last time).</summary>
+    /// <param name="now">The data time reached.</param>
+    /// <param name="output">Receives the records produced.</param>
+    public void Advance(DateTimeOffset now, List<MonitorRecord> output) => CloseWindows(now, output);
+
+    /// <summary>What the analysis has seen so far.</summary>
+    public UnitSummary Summary() => new()
+    {
+        Unit = _unit.Id,
+        From = _first,
+        To = _last,
+        Samples = _samples,
+        Windows = _windowCount,
+        Reconciled = _reconciledCount,
+        Steady = _steadyCount,
+        Stages = [.. Enumerable.Range(0, _unit.Stages).Select(k => (k + 1, _countEfficiency[k] > 0 ? _sumEfficiency[k] / _countEfficiency[k] : double.NaN, _countEfficiency[k] > 0 ? _lastEfficiency[k] : double.NaN))],
+        Overall = _overall,
+        Alerts = _alerts.Episodes,
+        SoftSensor = (_softSensorName, _softLast),
+        LabComparisons = _labComparisons,
+        SoftSensorTrace = _softTrace,
+    };
+
+    private long WindowIndex(DateTimeOffset t) => (long)Math.Floor((t - DateTimeOffset.UnixEpoch).Ticks / (double)_settings.WindowLength.Ticks);
+
+    private DateTimeOffset WindowStart(long w) => DateTimeOffset.UnixEpoch + TimeSpan.FromTicks(w * _settings.WindowLength.Ticks);
+
+    private IEnumerable<string> KeyTags()
+    {
+        foreach (Instrument i in _unit.Instruments)
+        {
+            if ((i.Quantity == InstrumentQuantity.Flow && i.Stream is { Phase: StreamPhase.Feed or StreamPhase.Solvent })
+                || (i.Quantity == InstrumentQuantity.Fraction && i.Stream == _unit.FinalRaffinate && i.Component == ComponentRole.Solute))
+            {
+                yield return i.Tag;
+            }
+        }
+    }
+
+    private void FeedSteadyFilter(string tag, DateTimeOffset aligned, double value, bool analyzer)
+    {
+        if (!_steadyFilters.TryGetValue(tag, out CaoRhinehartFilter? filter))
+        {
+            return;
+        }
+
+        if (analyzer)
+        {
+            filter.Add(value);
+            return;
+        }
+
+        long minute = (long)Math.Floor((aligned - DateTimeOffset.UnixEpoch).TotalMinutes);
+        (long m, double sum, int count) = _minuteMeans.TryGetValue(tag, out var acc) ? acc : (minute, 0, 0);
+        if (minute != m && count > 0)
+        {
+            filter.Add(sum / count);
+            (m, sum, count) = (minute, 0, 0);
+        }
+
+        _minuteMeans[tag] = (m, sum + value, count + 1);
+    }
+
+    private void CloseWindows(DateTimeOffset now, List<MonitorRecord> output)
+    {
+        while (true)
+        {
+            long next = _closedThrough == long.MinValue ? (_windows.Count > 0 ? _windows.Keys.First() : long.MinValue) : _closedThrough + 1;
+            if (next == long.MinValue)
+            {
+                return;
+            }
+
+            DateTimeOffset end = WindowStart(next + 1);
+            if (now < end + _lag)
+            {
+                return;
+            }
+
+            _closedThrough = next;
+            _windows.Remove(next, out Dictionary<string, TagWindow>? tags);
+            _windowProblems.Remove(next, out HashSet<string>? problems);
+            EvaluateWindow(next, tags ?? [], problems ?? [], output);
+        }
+    }
+
+    private void EvaluateWindow(long index, Dictionary<string, TagWindow> tags, HashSet<string> problemTags, List<MonitorRecord> output)
+    {
+        _windowCount++;
+        DateTimeOffset start = WindowStart(index), end = WindowStart(index + 1);
+        foreach ((string tag, SignalChecker checker) in _checkers)
+        {
+            if (checker.Advance(end + _lag) != SignalProblem.None)
+            {
+                problemTags.Add(tag);
+            }
+        }
+
+        // Signal quality, one alert per failed tag; a failed tag is left out of the window.
+        foreach ((string tag, SignalChecker checker) in _checkers)
+        {
+            bool failed = problemTags.Contains(tag);
+            SignalProblem problem = checker.Problem;
+            _alerts.Update(end, new AlertKey("signal-quality", null, tag), failed, AlertSeverity.Medium,
+                failed ? checker.Describe(problem == SignalProblem.None ? SignalProblem.BadQuality : problem) : string.Empty,
+                new Dictionary<string, double> { ["problem"] = (double)problem, ["windowSeconds"] = _settings.WindowLength.TotalSeconds }, output, TimeSpan.Zero);
+        }
+
+        var measurements = new List<WindowMeasurement>();
+        var byTag = new Dictionary<string, WindowMeasurement>(StringComparer.Ordinal);
+        double nIndependentMax = Math.Max(1, _settings.WindowLength.TotalSeconds / 10);
+        foreach ((string tag, TagWindow tw) in tags)
+        {
+            InstrumentBinding b = _model.Binding(tag)!;
+            if (tw.Count == 0 || problemTags.Contains(tag) || b.Key is not { } key)
+            {
+                continue;
+            }
+
+            // Readings of a continuous instrument closer than about 10 s are not independent on a real plant: the sigma
+            // of the mean counts at most one independent reading per 10 s (a note of ours, common practice, no source).
+            double n = b.Instrument.IsAnalyzer ? tw.Count : Math.Min(tw.Count, nIndependentMax);
+            var m = new WindowMeasurement(tag, key, tw.Mean, b.Instrument.SigmaBase / Math.Sqrt(n), tw.Count);
+            measurements.Add(m);
+            byTag[tag] = m;
+        }
+
+        double temperature = StageTemperatures(tags, problemTags, out double?[] stageTemperatures);
+        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady);
+        if (steady)
+        {
+            _steadyCount++;
+        }
+
+        // Entrainment: streams measured in solute and in the other phase's main component.
+        var entrained = new HashSet<string>(StringComparer.Ordinal);
+        var entrainmentByStage = new double?[_unit.Stages];
+        foreach ((UnitStream stream, WindowMeasurement soluteM, WindowMeasurement markerM) in TwoComponentStreams(byTag))
+        {
+            bool extract = stream.Phase == StreamPhase.Extract;
+            EntrainmentEstimate e = EntrainmentEstimator.Estimate(_unit.Equilibrium, temperature, extract, soluteM.Value, soluteM.Sigma, markerM.Value, markerM.Sigma);
+            int stage = stream.Stage == 0 ? 1 : stream.Stage;
+            entrainmentByStage[stage - 1] = Math.Max(entrainmentByStage[stage - 1] ?? 0, e.Fraction);
+            if (e.Detected)
+            {
+                entrained.Add(_model.StreamId(stream));
+            }
+
+            var key = new AlertKey("entrainment", stage, null);
+            bool active = _alerts.IsActive(key);
+            bool condition = e.Detected && e.Fraction > (active ? _settings.EntrainmentFraction - _settings.EntrainmentDeadband : _settings.EntrainmentFraction);
+            _alerts.Update(end, key, condition, AlertSeverity.High,
+                $"the {_unit.StreamName(stream)} of stage {stage} carries {100 * e.Fraction:F2} % of {(extract ? "raffinate" : "extract")} phase (lever rule, sigma {100 * e.Sigma:F2} %); set point {100 * _settings.EntrainmentFraction:F2} %",
+                new Dictionary<string, double> { ["fraction"] = e.Fraction, ["sigma"] = e.Sigma, ["threshold"] = _settings.EntrainmentFraction, ["windowSeconds"] = _settings.WindowLength.TotalSeconds },
+                output);
+        }
+
+        WindowReconciliation? rec = null;
+        try
+        {
+            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained) : null;
+        }
+        catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
+        {
+            rec = null;
+        }
+
+        if (rec is null)
+        {
+            for (int k = 0; k < _unit.Stages; k++)
+            {
+                output.Add(new StageRecord(_unit.Id, end, k + 1, null, entrainmentByStage[k], stageTemperatures[k]));
+            }
+
+            return;
+        }
+
+        _reconciledCount++;
+        ReconciliationResult final = rec.Report.Final;
+        WriteStreams(end, final, output);
+
+        // Efficiencies: observed per stage, else one shared efficiency fitted to the terminal streams.
+        var efficiencies = new EstimatedValue?[_unit.Stages];
+        bool anyUnobserved = false;
+        foreach (StageEfficiency e in rec.Efficiencies)
+        {
+            if (e.Status == EfficiencyStatus.Determined)
+            {
+                efficiencies[e.Stage - 1] = new EstimatedValue(e.Value, e.Sigma);
+            }
+            else if (e.Status == EfficiencyStatus.NotObservable)
+            {
+                anyUnobserved = true;
+            }
+        }
+
+        MaterialStream feed = StreamOf(final, "feed"), solvent = StreamOf(final, "solvent");
+        double raffinateSolute = final.Fraction("raffinate", _soluteId).Value;
+        double raffinateSigma = final.Fraction("raffinate", _soluteId).Sigma;
+        if (anyUnobserved && steady)
+        {
+            FitSharedEfficiency(feed, solvent, raffinateSolute, raffinateSigma, temperature, efficiencies, end);
+        }
+
+        bool keyAnalyzerFailed = problemTags.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction);
+        for (int k = 0; k < _unit.Stages; k++)
+        {
+            if (efficiencies[k] is { } est && steady)
+            {
+                _lastEfficiency[k] = est.Value;
+                _lastSigma[k] = est.Sigma;
+                _sumEfficiency[k] += est.Value;
+                _countEfficiency[k]++;
+            }
+
+            output.Add(new StageRecord(_unit.Id, end, k + 1, steady ? efficiencies[k] : null, entrainmentByStage[k], stageTemperatures[k]));
+        }
+
+        if (steady)
+        {
+            UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0, output);
+            UpdateSuspects(end, rec.SuspectTags, output);
+        }
+
+        (double dissolved, double unaccounted, double unaccountedSigma) = SolventAccounting(final, byTag);
+        if (steady)
+        {
+            UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
+        }
+
+        (double soft, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
+        double? needed = null;
+        if (double.IsFinite(soft) && soft + softSigma > _unit.RaffinateSoluteSpec)
+        {
+            needed = SolventToFeedNeeded(feed, solvent.Composition, temperature);
+        }
+
+        output.Add(new UnitRecord(_unit.Id, end, final.GlobalTest.Statistic, final.GlobalTest.Critical, steady, dissolved, unaccounted, needed));
+        if (double.IsFinite(soft))
+        {
+            _softLast = soft + _labBias;
+            double sigma = Math.Sqrt((softSigma * softSigma) + _labBiasVariance);
+            output.Add(new SoftSensorRecord(_unit.Id, end, _softSensorName, _softLast, sigma, _labBias));
+            _predictions.Add((start, end, soft, softSigma));
+            _softTrace.Add((end, _softLast));
+            if (_predictions.Count > 400)
+            {
+                _predictions.RemoveRange(0, 100);
+            }
+
+            var key = new AlertKey("off-spec", null, null);
+            bool active = _alerts.IsActive(key);
+            double margin = (active ? _settings.OffSpecMargin - 1 : _settings.OffSpecMargin) * sigma;
+            _alerts.Update(end, key, _softLast > _unit.RaffinateSoluteSpec + margin, AlertSeverity.High,
+                $"the raffinate's {_soluteId} is {_softLast:G4} (soft sensor, sigma {sigma:G2}) against a spec of {_unit.RaffinateSoluteSpec:G4}"
+                + (needed is double r ? $"; a solvent-to-feed ratio of about {r:G3} would bring it back at today's efficiencies (advisory)" : string.Empty),
+                new Dictionary<string, double> { ["value"] = _softLast, ["sigma"] = sigma, ["spec"] = _unit.RaffinateSoluteSpec },
+                output);
+        }
+    }
+
+    private double StageTemperatures(Dictionary<string, TagWindow> tags, HashSet<string> problemTags, out double?[] perStage)
+    {
+        perStage = new double?[_unit.Stages];
+        double sum = 0;
+        int count = 0;
+        foreach (Instrument i in _unit.Instruments)
+        {
+            if (i.Quantity == InstrumentQuantity.Temperature && i.Stage is int s && !problemTags.Contains(i.Tag) && tags.TryGetValue(i.Tag, out TagWindow? tw) && tw.Count > 0)
+            {
+                perStage[s - 1] = tw.Mean;
+                sum += tw.Mean;
+                count++;
+            }
+        }
+
+        double t = count > 0 ? sum / count : _unit.Nominal.TemperatureKelvin;
+        return _unit.Equilibrium.ValidTemperatures.Contains(t) ? t : _unit.Nominal.TemperatureKelvin;
+    }
+
+    private IEnumerable<(UnitStream Stream, WindowMeasurement Solute, WindowMeasurement Marker)> TwoComponentStreams(Dictionary<string, WindowMeasurement> byTag)
+    {
+        foreach (UnitStream s in _model.Streams.Where(UnitModel.IsSaturatedPhase).Append(_unit.FinalExtract).Distinct())
+        {
+            if (s.Phase is not (StreamPhase.Raffinate or StreamPhase.Extract))
+            {
+                continue;
+            }
+
+            ComponentRole markerRole = s.Phase == StreamPhase.Extract ? ComponentRole.Diluent : ComponentRole.Solvent;
+            WindowMeasurement? solute = null, marker = null;
+            foreach (WindowMeasurement m in byTag.Values)
+            {
+                Instrument i = _model.Binding(m.Tag)!.Instrument;
+                if (i.Quantity == InstrumentQuantity.Fraction && i.Stream == s)
+                {
+                    if (i.Component == ComponentRole.Solute)
+                    {
+                        solute = m;
+                    }
+                    else if (i.Component == markerRole)
+                    {
+                        marker = m;
+                    }
+                }
+            }
+
+            if (solute is not null && marker is not null)
+            {
+                yield return (s, solute, marker);
+            }
+        }
+    }
+
+    private void WriteStreams(DateTimeOffset end, ReconciliationResult final, List<MonitorRecord> output)
+    {
+        foreach (UnitStream s in _model.Streams)
+        {
+            string id = _model.StreamId(s);
+            QuantityEstimate flow = final.Flow(id);
+            if (!flow.HasValue)
+            {
+                continue;
+            }
+
+            var fractions = new Dictionary<string, EstimatedValue>(StringComparer.Ordinal);
+            foreach (string c in _model.ComponentIds)
+            {
+                QuantityEstimate f = final.Fraction(id, c);
+                if (f.HasValue)
+                {
+                    fractions[c] = new EstimatedValue(f.Value, f.Sigma);
+                }
+            }
+
+            output.Add(new StreamRecord(_unit.Id, end, id, new EstimatedValue(flow.Value, flow.Sigma), fractions));
+        }
+    }
+
+    private MaterialStream StreamOf(ReconciliationResult r, string id)
+    {
+        QuantityEstimate flow = r.Flow(id);
+        Ternary nominal = id == "feed" ? _unit.Nominal.Feed.Composition : _unit.Nominal.Solvent.Composition;
+        double Fraction(int i)
+        {
+            QuantityEstimate f = r.Fraction(id, _model.ComponentIds[i]);
+            return f.HasValue ? Math.Clamp(f.Value, 0, 1) : nominal[i];
+        }
+
+        double flowValue = flow.HasValue ? Math.Max(flow.Value, 0) : (id == "feed" ? _unit.Nominal.Feed.Flow : _unit.Nominal.Solvent.Flow);
+        return new MaterialStream(flowValue, new Ternary(Fraction(0), Fraction(1), Fraction(2)).Normalized());
+    }
+
+    private void FitSharedEfficiency(MaterialStream feed, MaterialStream solvent, double raffinateSolute, double raffinateSigma, double temperature, EstimatedValue?[] efficiencies, DateTimeOffset end)
+    {
+        var free = Enumerable.Range(0, _unit.Stages).Where(k => efficiencies[k] is null).ToArray();
+        var solver = new CascadeSolver(_unit.Equilibrium, temperature);
+        double Raffinate(double e)
+        {
+            double[] eff = new double[_unit.Stages];
+            for (int k = 0; k < _unit.Stages; k++)
+            {
+                eff[k] = efficiencies[k]?.Value ?? e;
+            }
+
+            return solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
+        }
+
+        try
+        {
+            // The final raffinate falls as the shared efficiency rises: bisect on it.
+            double lo = 0.02, hi = 1.0;
+            double fLo = Raffinate(lo) - raffinateSolute, fHi = Raffinate(hi) - raffinateSolute;
+            double e;
+            if (fHi >= 0)
+            {
+                e = hi;
+            }
+            else if (fLo <= 0)
+            {
+                e = lo;
+            }
+            else
+            {
+                for (int i = 0; i < 40; i++)
+                {
+                    double mid = 0.5 * (lo + hi);
+                    if (Raffinate(mid) - raffinateSolute > 0)
+                    {
+                        lo = mid;
+                    }
+                    else
+                    {
+                        hi = mid;
+                    }
+                }
+
+                e = 0.5 * (lo + hi);
+            }
+
+            double h = 0.01;
+            double slope = (Raffinate(Math.Min(1, e + h)) - Raffinate(Math.Max(0.02, e - h))) / (Math.Min(1, e + h) - Math.Max(0.02, e - h));
+            double sigma = slope != 0 ? Math.Abs(raffinateSigma / slope) : double.PositiveInfinity;
+            if (!double.IsFinite(sigma) || sigma > _settings.NotDeterminableSigma)
+            {
+                return;
+            }
+
+            foreach (int k in free)
+            {
+                efficiencies[k] = new EstimatedValue(e, sigma);
+            }
+
+            double theoretical = double.NaN;
+            try
+            {
+                var design = new CascadeDesign(_unit.Equilibrium, temperature);
+                if (raffinateSolute > 0 && raffinateSolute < feed.Composition.Solute)
+                {
+                    theoretical = design.FindStages(feed, solvent, DesignTarget.RaffinateFraction(raffinateSolute)).FractionalStages;
+                }
+            }
+            catch (Exception ex) when (ex is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)
+            {
+                theoretical = double.NaN;
+            }
+
+            double? hets = _unit.ColumnHeightMetres is double height && double.IsFinite(theoretical) && theoretical > 0 ? height / theoretical : null;
+            _overall = (e, sigma, theoretical, hets);
+        }
+        catch (Exception ex) when (ex is CascadeException or EquilibriumException or InfeasibleSpecificationException)
+        {
+            _ = end;
+        }
+    }
+
+    private void UpdateDrift(DateTimeOffset end, EstimatedValue?[] efficiencies, bool shared, bool suppressed, List<MonitorRecord> output)
+    {
+        for (int k = 0; k < _unit.Stages; k++)
+        {
+            if (efficiencies[k] is not { } e)
+            {
+                continue;
+            }
+
+            if (_baselineCount[k] < _settings.BaselineWindows)
+            {
+                // Learn the baseline (mean and variance of E across steady windows) before judging drift.
+                _baselineCount[k]++;
+                double delta = e.Value - _baseline[k];
+                _baseline[k] += delta / _baselineCount[k];
+                _baselineVariance[k] += delta * (e.Value - _baseline[k]);
+                continue;
+            }
+
+            double spread = _baselineCount[k] > 1 ? _baselineVariance[k] / (_baselineCount[k] - 1) : 0;
+            double sigma = Math.Sqrt((e.Sigma * e.Sigma) + spread);
+            double z = (_baseline[k] - e.Value) / sigma;
+            _cusum[k] = Math.Max(0, _cusum[k] + z - _settings.EfficiencyDriftDeadband);
+            if (_cusum[k] > 10 * _settings.EfficiencyDriftSigmas)
+            {
+                _cusum[k] = 10 * _settings.EfficiencyDriftSigmas;
+            }
+
+            int? stage = shared ? null : k + 1;
+            if (shared && k != Array.FindIndex(efficiencies, x => x is not null))
+            {
+                continue;
+            }
+
+            var key = new AlertKey("efficiency-drift", stage, null);
+            bool condition = !suppressed && _cusum[k] > (_alerts.IsActive(key) ? _settings.EfficiencyDriftSigmas / 2 : _settings.EfficiencyDriftSigmas);
+            _alerts.Update(end, key, condition, AlertSeverity.Medium,
+                $"{(stage is int s ? $"stage {s}" : "the unit")} efficiency {e.Value:F3} (sigma {e.Sigma:F3}) is below its baseline {_baseline[k]:F3} (CUSUM {_cusum[k]:F1} against {_settings.EfficiencyDriftSigmas:F1} sigma)",
+                new Dictionary<string, double> { ["efficiency"] = e.Value, ["sigma"] = e.Sigma, ["baseline"] = _baseline[k], ["cusum"] = _cusum[k], ["threshold"] = _settings.EfficiencyDriftSigmas },
+                output);
+        }
+    }
+
+    private void UpdateSuspects(DateTimeOffset end, IReadOnlyList<string> suspects, List<MonitorRecord> output)
+    {
+        foreach (string tag in _checkers.Keys)
+        {
+            bool named = suspects.Contains(tag);
+            _suspectRuns[tag] = named ? (_suspectRuns.TryGetValue(tag, out int r) ? r + 1 : 1) : 0;
+            var key = new AlertKey("suspect-instrument", null, tag);
+            bool condition = _suspectRuns[tag] >= _settings.SuspectWindows || (_alerts.IsActive(key) && named);
+            _alerts.Update(end, key, condition, AlertSeverity.Medium,
+                $"{tag} disagrees with the material balances: named by the gross-error tests in {_suspectRuns[tag]} consecutive steady windows",
+                new Dictionary<string, double> { ["windows"] = _suspectRuns[tag], ["threshold"] = _settings.SuspectWindows },
+                output);
+        }
+    }
+
+    private (double Dissolved, double Unaccounted, double Sigma) SolventAccounting(ReconciliationResult final, Dictionary<string, WindowMeasurement> byTag)
+    {
+        string solventId = _model.ComponentIds[2];
+        QuantityEstimate rf = final.Flow("raffinate"), rs = final.Fraction("raffinate", solventId);
+        double dissolved = rf.HasValue && rs.HasValue ? Math.Max(0, rf.Value * rs.Value) : double.NaN;
+
+        // The unaccounted solvent comes from the measured flows (the reconciliation closes every balance by
+        // construction): solvent in by the solvent meter, out in the extract and the raffinate.
+        double In(string stream, out double sigma)
+        {
+            sigma = double.NaN;
+            foreach (WindowMeasurement m in byTag.Values)
+            {
+                if (m.Key == QuantityKey.FlowOf(stream))
+                {
+                    sigma = m.Sigma;
+                    return m.Value;
+                }
+            }
+
+            return double.NaN;
+        }
+
+        double solventFlow = In("solvent", out double sSolvent), extractFlow = In("extract", out double sExtract), raffinateFlow = In("raffinate", out double sRaffinate);
+        QuantityEstimate es = final.Fraction("extract", solventId), fs = final.Fraction("solvent", solventId);
+        if (!double.IsFinite(solventFlow) || !double.IsFinite(extractFlow) || !double.IsFinite(raffinateFlow) || !es.HasValue || !fs.HasValue || !rs.HasValue)
+        {
+            return (dissolved, double.NaN, double.NaN);
+        }
+
+        double unaccounted = (solventFlow * fs.Value) - (extractFlow * es.Value) - (raffinateFlow * rs.Value);
+        double sigma = Math.Sqrt(Math.Pow(sSolvent * fs.Value, 2) + Math.Pow(sExtract * es.Value, 2) + Math.Pow(sRaffinate * rs.Value, 2));
+        return (dissolved, unaccounted, sigma);
+    }
+
+    private void UpdateSolventLoss(DateTimeOffset end, double solventFlow, double unaccounted, double sigma, List<MonitorRecord> output)
+    {
+        if (!double.IsFinite(unaccounted))
+        {
+            return;
+        }
+
+        if (_solventBaselineCount < _settings.SolventBaselineWindows)
+        {
+            _solventBaselineCount++;
+            _solventBaseline += (unaccounted - _solventBaseline) / _solventBaselineCount;
+            return;
+        }
+
+        double excess = unaccounted - _solventBaseline;
+        double threshold = Math.Max(_settings.SolventLossKgPerHour, _settings.SolventLossFraction * solventFlow);
+        var key = new AlertKey("solvent-loss", null, null);
+        bool active = _alerts.IsActive(key);
+        bool condition = excess > (active ? threshold / 2 : threshold) && excess > 3 * sigma;
+        string unit = _unit.System.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        _alerts.Update(end, key, condition, AlertSeverity.High,
+            $"{excess:F1} {unit} of solvent are unaccounted for (sigma {sigma:F1} {unit}; set point {threshold:F1} {unit})",
+            new Dictionary<string, double> { ["unaccounted"] = excess, ["sigma"] = sigma, ["threshold"] = threshold },
+            output);
+    }
+
+    private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady)
+    {
+        try
+        {
+            var solver = new CascadeSolver(_unit.Equilibrium, temperature);
+            double x = solver.Solve(_unit.Arrangement, feed, solvent, _lastEfficiency).Raffinate.Composition.Solute;
+            double variance = 0;
+            double[] eff = [.. _lastEfficiency];
+            for (int k = 0; k < eff.Length; k++)
+            {
+                double s = _lastSigma[k] > 0 ? _lastSigma[k] : 0.02;
+                double saved = eff[k];
+                eff[k] = Math.Clamp(saved + s, 0.02, 1);
+                double up = solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
+                eff[k] = saved;
+                variance += (up - x) * (up - x);
+            }
+
+            double sigma = Math.Sqrt(variance);
+            return (x, steady ? sigma : 2 * sigma);
+        }
+        catch (Exception e) when (e is CascadeException or EquilibriumException or ArgumentException)
+        {
+            return (double.NaN, double.NaN);
+        }
+    }
+
+    private double? SolventToFeedNeeded(MaterialStream feed, Ternary solventComposition, double temperature)
+    {
+        try
+        {
+            var design = new CascadeDesign(_unit.Equilibrium, temperature);
+            if (_unit.RaffinateSoluteSpec >= feed.Composition.Solute || feed.Flow <= 0)
+            {
+                return null;
+            }
+
+            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), _lastEfficiency);
+            return r.SolventFlow / feed.Flow;
+        }
+        catch (Exception e) when (e is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)
+        {
+            return null;
+        }
+    }
+}

@@ -1,0 +1,199 @@
+using Tieflow.Core.Cascade;
+using Tieflow.Core.Chemistry;
+using Tieflow.Core.Equilibrium;
+using Tieflow.Core.Monitoring.Efficiency;
+using Tieflow.Core.Plant;
+using Tieflow.Core.Reconciliation;
+
+namespace Tieflow.Core.Monitoring;
+
+/// <summary>
+/// Reconciles one window of a unit against its stage balances, with the phase envelope as a condition on every stream
+/// that leaves a settler as one saturated phase. A saturated phase has one compositional degree of freedom: its minor
+/// component (the solvent in a raffinate, the diluent in an extract) follows from its solute by the binodal. The
+/// reconciliation engine takes measurements only, so the condition enters as a pseudo-measurement of the minor
+/// component at the binodal value of the current solute estimate, with the model's own uncertainty as its sigma, and the
+/// reconciliation is repeated until those values stop moving: at the fixed point every such stream lies on the binodal
+/// within that uncertainty, and the redundancy is that of the constrained network (one condition per stream). Fresh
+/// solvent and feed carry their nominal minor fractions the same way. Streams whose measured composition lies inside the
+/// two-phase region (entrainment) are left free.
+/// </summary>
+public sealed class WindowReconciler
+{
+    private readonly UnitModel _model;
+    private readonly WindowReconcilerSettings _settings;
+
+    /// <summary>Creates a reconciler for a unit.</summary>
+    /// <param name="model">The unit model.</param>
+    /// <param name="settings">Settings; defaults when null.</param>
+    public WindowReconciler(UnitModel model, WindowReconcilerSettings? settings = null)
+    {
+        _model = model ?? throw new ArgumentNullException(nameof(model));
+        _settings = settings ?? new WindowReconcilerSettings();
+    }
+
+    /// <summary>Reconciles a window.</summary>
+    /// <param name="measurements">The window's averages (failed tags already left out).</param>
+    /// <param name="temperatureKelvin">The unit's temperature in the window.</param>
+    /// <param name="entrainedStreams">Stream ids whose measured composition says they carry the other phase: no envelope condition on them.</param>
+    /// <exception cref="ReconciliationException">When the reconciliation does not converge.</exception>
+    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null)
+    {
+        ArgumentNullException.ThrowIfNull(measurements);
+        UnitDescription unit = _model.Unit;
+        IPhaseEquilibrium eq = unit.Equilibrium;
+        string solute = _model.ComponentIds[0], diluent = _model.ComponentIds[1], solvent = _model.ComponentIds[2];
+        var byKey = new Dictionary<QuantityKey, WindowMeasurement>();
+        foreach (WindowMeasurement m in measurements)
+        {
+            byKey[m.Key] = m;
+        }
+
+        // The envelope condition applies to every saturated stream not flagged as entrained.
+        var saturated = new List<(string Id, StreamPhase Phase)>();
+        foreach (UnitStream s in _model.Streams)
+        {
+            string id = _model.StreamId(s);
+            if (UnitModel.IsSaturatedPhase(s) && (entrainedStreams is null || !entrainedStreams.Contains(id)))
+            {
+                saturated.Add((id, s.Phase));
+            }
+        }
+
+        // Start every saturated stream's solute at its measurement or at the nominal cascade.
+        CascadeResult nominal = new CascadeSolver(eq, unit.Nominal.TemperatureKelvin).Solve(unit.Arrangement, unit.Nominal.Feed, unit.Nominal.Solvent, unit.Nominal.Efficiencies);
+        var soluteGuess = new Dictionary<string, double>(StringComparer.Ordinal);
+        foreach ((string id, StreamPhase phase) in saturated)
+        {
+            soluteGuess[id] = byKey.TryGetValue(QuantityKey.FractionOf(id, solute), out WindowMeasurement? m)
+                ? m.Value
+                : NominalSolute(nominal, id, phase);
+        }
+
+        var fixedMeasurements = new List<Measurement>(measurements.Count + 6);
+        foreach (WindowMeasurement m in measurements)
+        {
+            fixedMeasurements.Add(new Measurement(m.Key, m.Value, m.Sigma));
+        }
+
+        // Fresh solvent and feed: their minor fractions as known from the nominal operation.
+        AddKnown(fixedMeasurements, byKey, "solvent", unit.Nominal.Solvent.Composition, [solute, diluent], _model.ComponentIds);
+        AddKnown(fixedMeasurements, byKey, "feed", unit.Nominal.Feed.Composition, [solvent], _model.ComponentIds);
+
+        ReconciliationReport? report = null;
+        int iteration = 0;
+        var all = new List<Measurement>(fixedMeasurements.Count + saturated.Count);
+        for (; iteration < _settings.MaxEnvelopeIterations; iteration++)
+        {
+            all.Clear();
+            all.AddRange(fixedMeasurements);
+            foreach ((string id, StreamPhase phase) in saturated)
+            {
+                double x = soluteGuess[id];
+                (string minor, double value) = phase == StreamPhase.Raffinate
+                    ? (solvent, RaffinateBranch(eq, x, temperatureKelvin).Solvent)
+                    : (diluent, ExtractBranch(eq, x, temperatureKelvin).Diluent);
+                all.Add(Measurement.Fraction(id, minor, value, _settings.EnvelopeSigma));
+            }
+
+            report = DataReconciler.Reconcile(_model.Network, all, new ReconciliationOptions { Significance = _settings.Significance });
+            double moved = 0;
+            foreach ((string id, _) in saturated)
+            {
+                QuantityEstimate est = report.Final.Fraction(id, solute);
+                if (est.HasValue)
+                {
+                    moved = Math.Max(moved, Math.Abs(est.Value - soluteGuess[id]));
+                    soluteGuess[id] = Math.Clamp(est.Value, 0, 1);
+                }
+            }
+
+            if (moved < _settings.EnvelopeTolerance)
+            {
+                iteration++;
+                break;
+            }
+        }
+
+        var efficiencies = new List<StageEfficiency>(unit.Stages);
+        for (int k = 1; k <= unit.Stages; k++)
+        {
+            efficiencies.Add(EstimateStage(report!.Final, k, temperatureKelvin, solute));
+        }
+
+        var suspectTags = new List<string>();
+        foreach (QuantityKey key in report!.Suspects)
+        {
+            if (byKey.TryGetValue(key, out WindowMeasurement? m))
+            {
+                suspectTags.Add(m.Tag);
+            }
+        }
+
+        return new WindowReconciliation(report, efficiencies, suspectTags, iteration, [.. saturated.Select(s => s.Id)]);
+    }
+
+    /// <summary>The raffinate-branch point with solute fraction x.</summary>
+    public static Ternary RaffinateBranch(IPhaseEquilibrium model, double x, double temperatureKelvin)
+    {
+        ArgumentNullException.ThrowIfNull(model);
+        double max = model.SoluteLimits(temperatureKelvin).Raffinate;
+        return model.TieLineFromRaffinate(Math.Clamp(x, 0, max), temperatureKelvin).Raffinate;
+    }
+
+    /// <summary>The extract-branch point with solute fraction y.</summary>
+    public static Ternary ExtractBranch(IPhaseEquilibrium model, double y, double temperatureKelvin)
+    {
+        ArgumentNullException.ThrowIfNull(model);
+        double max = model.SoluteLimits(temperatureKelvin).Extract;
+        return model.TieLineFromExtract(Math.Clamp(y, 0, max), temperatureKelvin).Extract;
+    }
+
+    private StageEfficiency EstimateStage(ReconciliationResult r, int stage, double temperatureKelvin, string solute)
+    {
+        string inlet = stage == 1 ? "feed" : _model.StreamId(UnitStream.RaffinateOf(stage - 1));
+        QuantityEstimate xIn = r.Fraction(inlet, solute);
+        QuantityEstimate xOut = r.Fraction(_model.StreamId(UnitStream.RaffinateOf(stage)), solute);
+        QuantityEstimate yOut = r.Fraction(_model.StreamId(UnitStream.ExtractOf(stage)), solute);
+        if (!xIn.HasValue || !xOut.HasValue || !yOut.HasValue)
+        {
+            return StageEfficiency.NotObservable(stage);
+        }
+
+        // The engine gives each estimate's sigma, not the covariance between estimates: the delta method here takes them
+        // as independent, which overstates the sigma where a balance ties x_in, x_out and y together.
+        Span<double> cov = [xIn.Sigma * xIn.Sigma, 0, 0, 0, xOut.Sigma * xOut.Sigma, 0, 0, 0, yOut.Sigma * yOut.Sigma];
+        return StageEfficiencyEstimator.Estimate(_model.Unit.Equilibrium, temperatureKelvin, stage, xIn.Value, xOut.Value, yOut.Value, cov, _settings.NotDeterminableSigma);
+    }
+
+    private static double NominalSolute(CascadeResult nominal, string id, StreamPhase phase)
+    {
+        foreach (StageResult s in nominal.Stages)
+        {
+            if (phase == StreamPhase.Raffinate && id == (s.Stage == nominal.Stages.Count ? "raffinate" : $"raffinate-{s.Stage}"))
+            {
+                return s.Raffinate.Composition.Solute;
+            }
+
+            if (phase == StreamPhase.Extract && (id == $"extract-{s.Stage}" || (id == "extract" && s.Stage == 1)))
+            {
+                return s.Extract.Composition.Solute;
+            }
+        }
+
+        return phase == StreamPhase.Raffinate ? nominal.Raffinate.Composition.Solute : nominal.Extract.Composition.Solute;
+    }
+
+    private void AddKnown(List<Measurement> list, Dictionary<QuantityKey, WindowMeasurement> measured, string stream, Ternary composition, string[] components, IReadOnlyList<string> ids)
+    {
+        foreach (string c in components)
+        {
+            QuantityKey key = QuantityKey.FractionOf(stream, c);
+            if (!measured.ContainsKey(key))
+            {
+                int index = ids.ToList().IndexOf(c);
+                list.Add(new Measurement(key, composition[index], _settings.KnownCompositionSigma));
+            }
+        }
+    }
+}

@@ -1,0 +1,17 @@
+using Tieflow.Core.Monitoring.Efficiency;
+using Tieflow.Core.Reconciliation;
+
+namespace Tieflow.Core.Monitoring;
+
+/// <summary>The reconciliation of one window and what follows from it directly.</summary>
+/// <param name="Report">The reconciliation with serial elimination.</param>
+/// <param name="Efficiencies">Per stage, stage 1 first.</param>
+/// <param name="SuspectTags">Tags of the measurements the serial elimination removed, in order.</param>
+/// <param name="EnvelopeIterations">Outer iterations that moved the phase-envelope conditions to the estimates.</param>
+/// <param name="SaturatedStreams">Streams on which the phase envelope was imposed.</param>
+public sealed record WindowReconciliation(
+    ReconciliationReport Report,
+    IReadOnlyList<StageEfficiency> Efficiencies,
+    IReadOnlyList<string> SuspectTags,
+    int EnvelopeIterations,
+    IReadOnlyList<string> SaturatedStreams);

@@ -1,0 +1,310 @@
+using System.CommandLine;
+using System.Globalization;
+using System.Text.Json;
+using Tieflow.Core.Monitoring;
+using Tieflow.Core.Monitoring.Alerts;
+using Tieflow.Core.Monitoring.Evaluation;
+using Tieflow.Core.Monitoring.Records;
+using Tieflow.Core.Plant;
+using Tieflow.Files;
+using Tieflow.Service.Output;
+using Tieflow.Service.Replay;
+
+namespace Tieflow.Service.Cli;
+
+/// <summary><c>tieflow replay</c>: recorded history through the same analysis as live operation, as fast as possible.</summary>
+internal static class ReplayCommand
+{
+    public static Command Create(CliContext context)
+    {
+        var plant = new Option<string>("--plant") { Description = "The plant file", Required = true };
+        var history = new Option<string>("--history") { Description = "History CSV (time,tag,value,quality)", Required = true };
+        var labs = new Option<string?>("--labs") { Description = "Lab CSV (sampled,reported,stream,component,value)" };
+        var truth = new Option<string?>("--truth") { Description = "Ground truth of a simulated run: adds the evaluation" };
+        var records = new Option<string?>("--records") { Description = "Write every record as one JSON object per line to this file" };
+        var json = new Option<bool>("--json") { Description = "Print the replay summary as JSON on standard output" };
+        var command = new Command("replay", "Runs recorded history through the same analysis as live operation, as fast as possible.")
+        {
+            plant, history, labs, truth, records, json,
+        };
+        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(records), p.GetValue(json))));
+        return command;
+    }
+
+    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? recordsPath, bool json)
+    {
+        PlantDescription plant = PlantReader.Load(plantPath);
+        if (!File.Exists(historyPath))
+        {
+            throw new InputException(historyPath, "$", "the history file does not exist");
+        }
+
+        IReadOnlyList<LabResult> labs = labsPath is null ? [] : LabCsvReader.Load(labsPath);
+        TruthFile? truth = truthPath is null ? null : TruthFileReader.Load(truthPath);
+        var runner = new ReplayRunner(plant);
+        using FileStream? recordFile = recordsPath is null ? null : new FileStream(recordsPath, FileMode.Create, FileAccess.Write, FileShare.Read, 1 << 16);
+        using var writer = recordFile is null ? null : new Utf8JsonWriter(recordFile, new JsonWriterOptions { SkipValidation = true });
+        void Sink(IReadOnlyList<MonitorRecord> batch)
+        {
+            if (writer is null)
+            {
+                return;
+            }
+
+            foreach (MonitorRecord r in batch)
+            {
+                RecordJson.Write(writer, plant.Site, r);
+                writer.Flush();
+                recordFile!.WriteByte((byte)'\n');
+                writer.Reset();
+            }
+        }
+
+        context.Error.WriteLine(Notices.Advisory);
+        ReplayResult result = runner.Run(HistoryCsvReader.Read(historyPath), labs, Sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
+        if (truth is not null)
+        {
+            result = ReplayRunner.Evaluate(result, truth);
+        }
+
+        foreach ((string tag, long n) in result.UnknownTags)
+        {
+            context.Error.WriteLine($"warning: {historyPath}: tag {tag} is not in the plant file ({n:N0} rows ignored)");
+        }
+
+        if (json)
+        {
+            JsonOutput.Print(context.Output, w => WriteSummary(w, result, truth is not null));
+        }
+        else
+        {
+            WriteText(context, result);
+        }
+
+        return ExitCodes.Success;
+    }
+
+    private static void WriteSummary(Utf8JsonWriter w, ReplayResult result, bool evaluate)
+    {
+        w.WriteStartObject();
+        w.WriteStartArray("units");
+        foreach ((UnitDescription unit, UnitSummary s, _) in result.Units)
+        {
+            w.WriteStartObject();
+            w.WriteString("id", unit.Id);
+            Time(w, "from", s.From);
+            Time(w, "to", s.To);
+            w.WriteNumber("samples", s.Samples);
+            w.WriteNumber("windows", s.Windows);
+            w.WriteNumber("reconciled", s.Reconciled);
+            w.WriteNumber("steady", s.Steady);
+            w.WriteStartArray("stages");
+            foreach ((int stage, double mean, double last) in s.Stages)
+            {
+                w.WriteStartObject();
+                w.WriteNumber("stage", stage);
+                Number(w, "efficiencyMean", mean);
+                Number(w, "efficiencyLast", last);
+                w.WriteEndObject();
+            }
+
+            w.WriteEndArray();
+            w.WriteStartObject("overall");
+            (double e, double sigma, double theoretical, double? hets) = s.Overall;
+            if (!double.IsFinite(e) && s.Stages.Count > 0)
+            {
+                // A train with every stage observed: the overall efficiency is the mean of the last stage efficiencies.
+                double[] lasts = [.. s.Stages.Select(x => x.Last).Where(double.IsFinite)];
+                e = lasts.Length == s.Stages.Count ? lasts.Average() : double.NaN;
+            }
+
+            Number(w, "efficiency", e);
+            Number(w, "sigma", sigma);
+            Number(w, "theoreticalStages", theoretical);
+            Number(w, "hets", unit.Kind == UnitKind.Column ? hets : null);
+            w.WriteEndObject();
+            w.WriteStartArray("alerts");
+            foreach (AlertEpisode a in s.Alerts)
+            {
+                w.WriteStartObject();
+                w.WriteString("kind", a.Key.Kind);
+                if (a.Key.Stage is int st)
+                {
+                    w.WriteNumber("stage", st);
+                }
+                else
+                {
+                    w.WriteNull("stage");
+                }
+
+                if (a.Key.Tag is not null)
+                {
+                    w.WriteString("tag", a.Key.Tag);
+                }
+
+                w.WriteString("severity", a.Severity.ToString().ToLowerInvariant());
+                Time(w, "raised", a.Raised);
+                Time(w, "cleared", a.Cleared);
+                w.WriteString("message", a.Message);
+                w.WriteEndObject();
+            }
+
+            w.WriteEndArray();
+            w.WriteStartArray("softSensors");
+            w.WriteStartObject();
+            w.WriteString("name", s.SoftSensor.Name);
+            Number(w, "last", s.SoftSensor.Last);
+            w.WriteNumber("labComparisons", s.LabComparisons.Count);
+            Number(w, "rmseVsLab", s.LabComparisons.Count == 0 ? double.NaN : Math.Sqrt(s.LabComparisons.Average(l => (l.Lab - l.Predicted) * (l.Lab - l.Predicted))));
+            w.WriteEndObject();
+            w.WriteEndArray();
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+        if (evaluate)
+        {
+            w.WriteStartObject("evaluation");
+            w.WriteStartArray("faults");
+            int falseAlerts = 0;
+            var rmse = new List<double>();
+            foreach ((UnitDescription unit, _, EvaluationResult? e) in result.Units)
+            {
+                if (e is null)
+                {
+                    continue;
+                }
+
+                falseAlerts += e.FalseAlerts.Count;
+                if (double.IsFinite(e.SoftSensorRmseVsTruth))
+                {
+                    rmse.Add(e.SoftSensorRmseVsTruth);
+                }
+
+                foreach (FaultDetection f in e.Faults)
+                {
+                    w.WriteStartObject();
+                    w.WriteString("unit", unit.Id);
+                    w.WriteString("kind", Core.Scenarios.Fault.KindName(f.Fault.Kind));
+                    if (f.Fault.Stage is int st)
+                    {
+                        w.WriteNumber("stage", st);
+                    }
+                    else
+                    {
+                        w.WriteNull("stage");
+                    }
+
+                    if (f.Fault.Tag is not null)
+                    {
+                        w.WriteString("tag", f.Fault.Tag);
+                    }
+
+                    Time(w, "start", f.Fault.Start);
+                    Time(w, "detected", f.Detected);
+                    if (f.Delay is { } d)
+                    {
+                        w.WriteString("delay", d.ToString("c", CultureInfo.InvariantCulture));
+                    }
+                    else
+                    {
+                        w.WriteNull("delay");
+                    }
+
+                    if (f.AlertKind is null)
+                    {
+                        w.WriteNull("alertKind");
+                    }
+                    else
+                    {
+                        w.WriteString("alertKind", f.AlertKind);
+                    }
+
+                    w.WriteEndObject();
+                }
+            }
+
+            w.WriteEndArray();
+            w.WriteNumber("falseAlerts", falseAlerts);
+            Number(w, "softSensorRmseVsTruth", rmse.Count == 0 ? double.NaN : rmse.Max());
+            w.WriteStartObject("softSensorRmseVsTruthByUnit");
+            foreach ((UnitDescription unit, _, EvaluationResult? e) in result.Units)
+            {
+                if (e is not null)
+                {
+                    Number(w, unit.Id, e.SoftSensorRmseVsTruth);
+                }
+            }
+
+            w.WriteEndObject();
+            w.WriteEndObject();
+        }
+
+        JsonOutput.WriteNotice(w);
+        w.WriteEndObject();
+    }
+
+    private static void WriteText(CliContext context, ReplayResult result)
+    {
+        TextWriter o = context.Output;
+        o.WriteLine($"Replayed {result.Rows:N0} history rows into {result.Records:N0} records.");
+        foreach ((UnitDescription unit, UnitSummary s, EvaluationResult? e) in result.Units)
+        {
+            o.WriteLine();
+            o.WriteLine($"Unit {unit.Id} ({unit.SystemName}): {s.Windows} windows, {s.Reconciled} reconciled, {s.Steady} steady, {s.Samples:N0} samples from {s.From:u} to {s.To:u}");
+            foreach ((int stage, double mean, double last) in s.Stages)
+            {
+                o.WriteLine(double.IsFinite(mean) ? $"  stage {stage}: efficiency mean {mean:F3}, last {last:F3}" : $"  stage {stage}: efficiency not determined");
+            }
+
+            if (double.IsFinite(s.Overall.TheoreticalStages))
+            {
+                o.WriteLine($"  theoretical stages {s.Overall.TheoreticalStages:F2}{(s.Overall.Hets is double h ? $", HETS {h:F2} m" : string.Empty)}");
+            }
+
+            o.WriteLine($"  soft sensor {s.SoftSensor.Name}: last {s.SoftSensor.Last:G4} (spec {unit.RaffinateSoluteSpec:G4}), {s.LabComparisons.Count} lab comparison(s)");
+            o.WriteLine(s.Alerts.Count == 0 ? "  no alerts" : $"  {s.Alerts.Count} alert(s):");
+            foreach (AlertEpisode a in s.Alerts)
+            {
+                o.WriteLine($"    {a.Raised:u} {a.Severity.ToString().ToLowerInvariant(),-6} {a.Key.Kind}{(a.Key.Stage is int st ? $" stage {st}" : string.Empty)}{(a.Key.Tag is null ? string.Empty : " " + a.Key.Tag)}: {a.Message}{(a.Cleared is { } c ? $" (cleared {c:u})" : string.Empty)}");
+            }
+
+            if (e is not null)
+            {
+                foreach (FaultDetection f in e.Faults)
+                {
+                    o.WriteLine($"  fault {Core.Scenarios.Fault.KindName(f.Fault.Kind)} from {f.Fault.Start:u}: {(f.Detected is { } d ? $"detected by {f.AlertKind} after {f.Delay:c}" : "not detected")}");
+                }
+
+                o.WriteLine($"  false alerts {e.FalseAlerts.Count}; soft sensor RMSE against the truth {e.SoftSensorRmseVsTruth:G3}");
+            }
+        }
+
+        o.WriteLine();
+        o.WriteLine(Notices.Advisory);
+    }
+
+    private static void Time(Utf8JsonWriter w, string name, DateTimeOffset? t)
+    {
+        if (t is { } v)
+        {
+            w.WriteString(name, v.UtcDateTime.ToString("yyyy-MM-ddTHH:mm:ssZ", CultureInfo.InvariantCulture));
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
+    }
+
+    private static void Number(Utf8JsonWriter w, string name, double? value)
+    {
+        if (value is double v && double.IsFinite(v))
+        {
+            w.WriteNumber(name, JsonOutput.Round(v));
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
+    }
+}

@@ -1,0 +1,140 @@
+using Tieflow.Core.Monitoring;
+using Tieflow.Core.Monitoring.Evaluation;
+using Tieflow.Core.Monitoring.Records;
+using Tieflow.Core.Plant;
+using Tieflow.Core.Scenarios;
+using Tieflow.Files;
+
+namespace Tieflow.Service.Replay;
+
+/// <summary>
+/// Runs recorded history through the same per-unit analysis as live operation, as fast as it goes. The history streams
+/// (memory does not grow with its length); lab results enter at their reported time, never before.
+/// </summary>
+internal sealed class ReplayRunner
+{
+    private readonly PlantDescription _plant;
+    private readonly Dictionary<string, UnitAnalyzer> _byTag = new(StringComparer.Ordinal);
+    private readonly List<UnitAnalyzer> _analyzers = [];
+
+    public ReplayRunner(PlantDescription plant)
+    {
+        _plant = plant;
+        foreach (UnitDescription u in plant.Units)
+        {
+            var a = new UnitAnalyzer(u);
+            _analyzers.Add(a);
+            foreach (Instrument i in u.Instruments)
+            {
+                _byTag[i.Tag] = a;
+            }
+        }
+    }
+
+    /// <summary>Replays a history; records go to <paramref name="sink"/> as they are produced.</summary>
+    /// <param name="history">The history rows, in time order give or take a few seconds.</param>
+    /// <param name="labs">Lab results (any order).</param>
+    /// <param name="sink">Receives each batch of records.</param>
+    /// <param name="progress">Called now and then with the rows read.</param>
+    public ReplayResult Run(IEnumerable<SignalSample> history, IReadOnlyList<LabResult> labs, Action<IReadOnlyList<MonitorRecord>> sink, Action<long>? progress = null)
+    {
+        var pendingLabs = new Queue<LabResult>(labs.OrderBy(l => l.Reported));
+        var unknown = new Dictionary<string, long>(StringComparer.Ordinal);
+        var buffer = new List<MonitorRecord>(256);
+        long rows = 0, records = 0;
+        DateTimeOffset last = DateTimeOffset.MinValue;
+        foreach (SignalSample s in history)
+        {
+            rows++;
+            while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= s.Time)
+            {
+                LabResult lab = pendingLabs.Dequeue();
+                foreach (UnitAnalyzer a in AnalyzersFor(lab))
+                {
+                    a.AddLab(lab, buffer);
+                }
+            }
+
+            if (_byTag.TryGetValue(s.Tag, out UnitAnalyzer? analyzer))
+            {
+                analyzer.Add(s, buffer);
+            }
+            else
+            {
+                unknown[s.Tag] = unknown.TryGetValue(s.Tag, out long n) ? n + 1 : 1;
+            }
+
+            if (s.Time > last)
+            {
+                last = s.Time;
+            }
+
+            if (buffer.Count > 0)
+            {
+                records += buffer.Count;
+                sink(buffer);
+                buffer.Clear();
+            }
+
+            if (progress is not null && (rows & 0xFFFFF) == 0)
+            {
+                progress(rows);
+            }
+        }
+
+        if (rows > 0)
+        {
+            while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= last)
+            {
+                LabResult lab = pendingLabs.Dequeue();
+                foreach (UnitAnalyzer a in AnalyzersFor(lab))
+                {
+                    a.AddLab(lab, buffer);
+                }
+            }
+
+            foreach (UnitAnalyzer a in _analyzers)
+            {
+                a.Advance(last, buffer);
+            }
+
+            records += buffer.Count;
+            if (buffer.Count > 0)
+            {
+                sink(buffer);
+            }
+        }
+
+        progress?.Invoke(rows);
+        return new ReplayResult([.. _analyzers.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], unknown, rows, records);
+    }
+
+    /// <summary>Adds the evaluation against a truth file to a replay's result.</summary>
+    public static ReplayResult Evaluate(ReplayResult result, TruthFile truth)
+    {
+        var units = new List<(UnitDescription, UnitSummary, EvaluationResult?)>();
+        foreach ((UnitDescription unit, UnitSummary summary, _) in result.Units)
+        {
+            UnitTruth? t = truth.ForUnit(unit.Id);
+            EvaluationResult? e = t is null || summary.To is null ? null : TruthEvaluator.Evaluate(t, summary, unit.RaffinateSoluteSpec, unit.Stages, summary.To.Value);
+            units.Add((unit, summary, e));
+        }
+
+        return result with { Units = units };
+    }
+
+    private IEnumerable<UnitAnalyzer> AnalyzersFor(LabResult lab)
+    {
+        int slash = lab.Stream.IndexOf('/', StringComparison.Ordinal);
+        if (slash > 0)
+        {
+            string unit = lab.Stream[..slash];
+            return _analyzers.Where(a => a.Model.Unit.Id == unit);
+        }
+
+        // Without a unit prefix a lab result belongs to the unit whose system has the component.
+        return _analyzers.Where(a => a.Model.ComponentIds.Contains(lab.Component));
+    }
+
+    public PlantDescription Plant => _plant;
+}
