@@ -23,6 +23,7 @@ internal sealed class InstrumentChannel
     private readonly double _offset;
     private readonly double[] _delay;
     private readonly int _delaySteps;
+    private readonly int _decimals;
     private long _pushed;
     private double _nextUpdate;
     private bool _started;
@@ -45,6 +46,8 @@ internal sealed class InstrumentChannel
         double dead = instrument.DeadTime?.TotalSeconds ?? 0;
         _delaySteps = _analyzer ? (int)Math.Round(dead / _step) : 0;
         _delay = new double[_delaySteps + 1];
+        double digits = -Math.Log10(instrument.Resolution);
+        _decimals = instrument.Resolution > 0 && Math.Abs(digits - Math.Round(digits)) < 1e-9 && digits >= 0 && digits <= 15 ? (int)Math.Round(digits) : -1;
     }
 
     public Instrument Instrument { get; }
@@ -153,7 +156,8 @@ internal sealed class InstrumentChannel
 
         if (i.Resolution > 0)
         {
-            reading = Math.Round(reading / i.Resolution) * i.Resolution;
+            // A decimal resolution (0.1, 0.01) rounds to decimals, so that 453.4 is not written as 453.40000000000003.
+            reading = _decimals >= 0 ? Math.Round(reading, _decimals) : Math.Round(reading / i.Resolution) * i.Resolution;
         }
 
         if (reading < i.RangeLow || reading > i.RangeHigh)

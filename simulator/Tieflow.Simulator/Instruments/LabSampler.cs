@@ -23,8 +23,8 @@ internal sealed class LabSampler
         _schedule = schedule;
         _noise = new GaussianSource(seed, stream);
 
-        // With several units in one plant the stream names alone would be ambiguous in the lab file.
-        _points = unit.Labs.Select(p => (p, qualifyWithUnit ? $"{unit.Id}.{unit.StreamName(p.Stream)}" : unit.StreamName(p.Stream), unit.System.Components[(int)p.Component].Id)).ToArray();
+        // With several units in one plant the stream names alone would be ambiguous in the lab file: UNIT/stream.
+        _points = unit.Labs.Select(p => (p, qualifyWithUnit ? $"{unit.Id}/{unit.StreamName(p.Stream)}" : unit.StreamName(p.Stream), unit.System.Components[(int)p.Component].Id)).ToArray();
     }
 
     public void Step(ISimulationSink sink, double seconds, DateTimeOffset time, UnitSimulation unit)
