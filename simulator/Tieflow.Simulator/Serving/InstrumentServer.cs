@@ -120,6 +120,9 @@ internal sealed class InstrumentServer : IAsyncDisposable
         }
     }
 
+    /// <summary>The value a client would read for a tag (for tests).</summary>
+    internal DataValue Read(string tag) => _server.ReadValue(_variables[tag]);
+
     public ValueTask DisposeAsync() => _server.DisposeAsync();
 
     private static bool TryParts(string node, out string[] parts)
