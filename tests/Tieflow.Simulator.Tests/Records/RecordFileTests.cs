@@ -27,14 +27,14 @@ public sealed class RecordFileTests
     [Fact]
     public void History_WritesTheContractsHeaderAndForm()
     {
-        var text = new StringWriter();
+        var text = new MemoryStream();
         using (var w = new HistoryCsvWriter(text))
         {
             w.Write(new SignalSample("AI-314", T0, 2.5, SignalQuality.Good));
             w.Write(new SignalSample("AI-314", T0.AddMilliseconds(250), 0.1, SignalQuality.Bad));
         }
 
-        Assert.Equal("time,tag,value,quality\n2026-03-02T08:00:00Z,AI-314,2.5,good\n2026-03-02T08:00:00.25Z,AI-314,0.1,bad\n", text.ToString());
+        Assert.Equal("time,tag,value,quality\n2026-03-02T08:00:00Z,AI-314,2.5,good\n2026-03-02T08:00:00.25Z,AI-314,0.1,bad\n", System.Text.Encoding.UTF8.GetString(text.ToArray()));
     }
 
     [Theory]
