@@ -30,10 +30,11 @@ public sealed class UnitAnalyzer
     private readonly WindowReconciler _reconciler;
     private readonly Dictionary<string, SignalChecker> _checkers = new(StringComparer.Ordinal);
     private readonly SortedDictionary<long, Dictionary<string, TagWindow>> _windows = [];
-    private readonly Dictionary<long, HashSet<string>> _windowProblems = [];
+    private readonly Dictionary<long, Dictionary<string, SignalProblem>> _windowProblems = [];
     private readonly Dictionary<string, CaoRhinehartFilter> _steadyFilters = new(StringComparer.Ordinal);
     private readonly Dictionary<string, (long Minute, double Sum, int Count)> _minuteMeans = new(StringComparer.Ordinal);
     private readonly AlertBook _alerts;
+    private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -55,6 +56,7 @@ public sealed class UnitAnalyzer
     private double _solventBaseline;
     private int _solventBaselineCount;
     private double _softLast = double.NaN;
+    private double _softLagged = double.NaN;
     private (double Efficiency, double Sigma, double TheoreticalStages, double? Hets) _overall = (double.NaN, double.NaN, double.NaN, null);
     private DateTimeOffset? _first;
     private DateTimeOffset? _last;
@@ -63,6 +65,8 @@ public sealed class UnitAnalyzer
     private int _reconciledCount;
     private int _steadyCount;
     private long _closedThrough = long.MinValue;
+    private int _failures;
+    private string? _lastFailure;
 
     /// <summary>The settings in force (defaults with the plant file's overrides).</summary>
     public AnalysisSettings Settings => _settings;
@@ -144,14 +148,14 @@ public sealed class UnitAnalyzer
         Instrument instrument = binding.Instrument;
         DateTimeOffset aligned = instrument.DeadTime is { } dead ? sample.Time - dead : sample.Time;
         long w = WindowIndex(aligned);
-        if (state.IsUpdate && state.Problem != SignalProblem.None && w > _closedThrough)
+        if (state.IsUpdate && state.Problem is not (SignalProblem.None or SignalProblem.Spike) && w > _closedThrough)
         {
-            if (!_windowProblems.TryGetValue(w, out HashSet<string>? set))
+            if (!_windowProblems.TryGetValue(w, out Dictionary<string, SignalProblem>? set))
             {
-                _windowProblems[w] = set = new HashSet<string>(StringComparer.Ordinal);
+                _windowProblems[w] = set = new Dictionary<string, SignalProblem>(StringComparer.Ordinal);
             }
 
-            set.Add(sample.Tag);
+            set[sample.Tag] = state.Problem;
         }
 
         if (!state.Used || w <= _closedThrough)
@@ -235,6 +239,8 @@ public sealed class UnitAnalyzer
         Windows = _windowCount,
         Reconciled = _reconciledCount,
         Steady = _steadyCount,
+        Failures = _failures,
+        LastFailure = _lastFailure,
         Stages = [.. Enumerable.Range(0, _unit.Stages).Select(k => (k + 1, _countEfficiency[k] > 0 ? _sumEfficiency[k] / _countEfficiency[k] : double.NaN, _countEfficiency[k] > 0 ? _lastEfficiency[k] : double.NaN))],
         Overall = _overall,
         Alerts = _alerts.Episodes,
@@ -301,30 +307,33 @@ public sealed class UnitAnalyzer
 
             _closedThrough = next;
             _windows.Remove(next, out Dictionary<string, TagWindow>? tags);
-            _windowProblems.Remove(next, out HashSet<string>? problems);
-            EvaluateWindow(next, tags ?? [], problems ?? [], output);
+            _windowProblems.Remove(next, out Dictionary<string, SignalProblem>? problems);
+            EvaluateWindow(next, tags ?? [], problems ?? new Dictionary<string, SignalProblem>(StringComparer.Ordinal), output);
         }
     }
 
-    private void EvaluateWindow(long index, Dictionary<string, TagWindow> tags, HashSet<string> problemTags, List<MonitorRecord> output)
+    private void EvaluateWindow(long index, Dictionary<string, TagWindow> tags, Dictionary<string, SignalProblem> problems, List<MonitorRecord> output)
     {
         _windowCount++;
         DateTimeOffset start = WindowStart(index), end = WindowStart(index + 1);
+        HashSet<string> problemTags = [];
         foreach ((string tag, SignalChecker checker) in _checkers)
         {
-            if (checker.Advance(end + _lag) != SignalProblem.None)
+            SignalProblem now = checker.Advance(end + _lag);
+            if (now != SignalProblem.None)
             {
-                problemTags.Add(tag);
+                problems[tag] = now;
             }
         }
+
+        problemTags.UnionWith(problems.Keys);
 
         // Signal quality, one alert per failed tag; a failed tag is left out of the window.
         foreach ((string tag, SignalChecker checker) in _checkers)
         {
-            bool failed = problemTags.Contains(tag);
-            SignalProblem problem = checker.Problem;
+            bool failed = problems.TryGetValue(tag, out SignalProblem problem);
             _alerts.Update(end, new AlertKey("signal-quality", null, tag), failed, AlertSeverity.Medium,
-                failed ? checker.Describe(problem == SignalProblem.None ? SignalProblem.BadQuality : problem) : string.Empty,
+                failed ? checker.Describe(problem) : string.Empty,
                 new Dictionary<string, double> { ["problem"] = (double)problem, ["windowSeconds"] = _settings.WindowLength.TotalSeconds }, output, TimeSpan.Zero);
         }
 
@@ -348,7 +357,7 @@ public sealed class UnitAnalyzer
         }
 
         double temperature = StageTemperatures(tags, problemTags, out double?[] stageTemperatures);
-        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady);
+        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady) && AnalyzersSettled(measurements);
         if (steady)
         {
             _steadyCount++;
@@ -384,7 +393,10 @@ public sealed class UnitAnalyzer
         }
         catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
         {
+            // A window that cannot be reconciled gives no estimates; the failure is kept for the summary and the status.
             rec = null;
+            _failures++;
+            _lastFailure = $"{end:u}: {e.Message}";
         }
 
         if (rec is null)
@@ -450,7 +462,29 @@ public sealed class UnitAnalyzer
             UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
         }
 
-        (double soft, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
+        (double steadyState, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
+
+        // The cascade model gives the raffinate the unit will settle at; the hold-ups make the real one follow it with
+        // a lag. A first-order lag with the train's residence time (total hold-up over total throughput) stands in for
+        // the composition dynamics (a modelling choice of ours: the dominant time constant of a counter-current train
+        // is of the order of its residence time).
+        double soft = steadyState;
+        if (double.IsFinite(steadyState))
+        {
+            double throughput = MassFlow(feed) + MassFlow(solvent);
+            double tau = throughput > 0 ? _unit.Stages * _unit.Holdup.TotalKg / throughput * SecondsPerHour : 0;
+            if (double.IsFinite(_softLagged) && tau > 0)
+            {
+                double step = _settings.WindowLength.TotalSeconds;
+                _softLagged += (1 - Math.Exp(-step / tau)) * (steadyState - _softLagged);
+            }
+            else
+            {
+                _softLagged = steadyState;
+            }
+
+            soft = _softLagged;
+        }
         double? needed = null;
         if (double.IsFinite(soft) && soft + softSigma > _unit.RaffinateSoluteSpec)
         {
@@ -480,6 +514,43 @@ public sealed class UnitAnalyzer
                 output);
         }
     }
+
+    /// <summary>
+    /// The second half of the steady-state gate: the hold-ups of a mixer-settler train settle over hours, slower than the
+    /// Cao-Rhinehart filter on the key signals can see within one window, so every analyzer's window mean must also agree
+    /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
+    /// accumulate solute is biased.
+    /// </summary>
+    private bool AnalyzersSettled(List<WindowMeasurement> measurements)
+    {
+        bool settled = true;
+        var seen = new HashSet<string>(StringComparer.Ordinal);
+        foreach (WindowMeasurement m in measurements)
+        {
+            if (!_model.Binding(m.Tag)!.Instrument.IsAnalyzer)
+            {
+                continue;
+            }
+
+            seen.Add(m.Tag);
+            if (!_previousMeans.TryGetValue(m.Tag, out WindowMeasurement? p) || Math.Abs(m.Value - p.Value) > 3 * Math.Sqrt((m.Sigma * m.Sigma) + (p.Sigma * p.Sigma)))
+            {
+                settled = false;
+            }
+
+            _previousMeans[m.Tag] = m;
+        }
+
+        foreach (string tag in _previousMeans.Keys.Where(t => !seen.Contains(t)).ToList())
+        {
+            _previousMeans.Remove(tag);
+        }
+
+        return settled;
+    }
+
+    private double MassFlow(MaterialStream stream) =>
+        _unit.System.Basis == CompositionBasis.Mass ? stream.Flow : stream.Flow * _unit.System.MeanMolarMass(stream.Composition);
 
     private double StageTemperatures(Dictionary<string, TagWindow> tags, HashSet<string> problemTags, out double?[] perStage)
     {

@@ -26,6 +26,12 @@ public sealed record UnitSummary
     /// <summary>Steady windows.</summary>
     public int Steady { get; init; }
 
+    /// <summary>Windows whose reconciliation failed.</summary>
+    public int Failures { get; init; }
+
+    /// <summary>The last failure's time and message, or null.</summary>
+    public string? LastFailure { get; init; }
+
     /// <summary>Per stage: mean and last determined efficiency (NaN when never determined).</summary>
     public required IReadOnlyList<(int Stage, double Mean, double Last)> Stages { get; init; }
 

@@ -93,7 +93,13 @@ public sealed class WindowReconciler
                 (string minor, double value) = phase == StreamPhase.Raffinate
                     ? (solvent, RaffinateBranch(eq, x, temperatureKelvin).Solvent)
                     : (diluent, ExtractBranch(eq, x, temperatureKelvin).Diluent);
-                all.Add(Measurement.Fraction(id, minor, value, _settings.EnvelopeSigma));
+
+                // Where an analyzer measures the minor component itself (a water analyzer on the extract), its reading
+                // stands in for the envelope condition: the stream was found saturated by the entrainment check.
+                if (!byKey.ContainsKey(QuantityKey.FractionOf(id, minor)))
+                {
+                    all.Add(Measurement.Fraction(id, minor, value, _settings.EnvelopeSigma));
+                }
             }
 
             report = DataReconciler.Reconcile(_model.Network, all, new ReconciliationOptions { Significance = _settings.Significance });

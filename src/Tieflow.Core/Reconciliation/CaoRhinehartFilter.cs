@@ -22,7 +22,7 @@ public sealed class CaoRhinehartFilter
     /// <param name="lambda2">Filter factor of the variance about the mean, in (0, 1]; default 0.1.</param>
     /// <param name="lambda3">Filter factor of the variance of successive differences, in (0, 1]; default 0.1.</param>
     /// <param name="criticalValue">R above which the signal is not steady, above zero; default 1.44, about the 95th
-    /// percentile of R for white noise with the default factors (Monte Carlo figure of shared/reference/README.md section 6).</param>
+    /// percentile of R for white noise with the default factors (Monte Carlo figure of docs/reference-data.md §6).</param>
     /// <param name="warmUpSamples">Samples before the test may say steady, zero or more; default 10.</param>
     /// <exception cref="ArgumentOutOfRangeException">A factor outside (0, 1], a critical value not above zero, or a negative warm-up.</exception>
     public CaoRhinehartFilter(double lambda1 = 0.2, double lambda2 = 0.1, double lambda3 = 0.1, double criticalValue = 1.44, int warmUpSamples = 10)

@@ -5,16 +5,16 @@ using Tieflow.Core.Equilibrium;
 
 namespace Tieflow.Files;
 
-/// <summary>Reads split, cascade and design case files (CONTRACTS.md) strictly, collecting every problem with its file and JSON path.</summary>
+/// <summary>Reads split, cascade and design case files (docs/file-formats.md) strictly, collecting every problem with its file and JSON path.</summary>
 public static class CaseReader
 {
     private static readonly string[] CascadeKeys = ["system", "temperature", "arrangement", "stages", "feed", "solvent", "efficiency"];
 
-    public static SplitCase LoadSplit(string path) => Load(path, ReadSplit);
+    public static SplitCase LoadSplit(string path) => Load(path, CaseKinds.Split, ReadSplit);
 
-    public static CascadeCase LoadCascade(string path) => Load(path, ReadCascade);
+    public static CascadeCase LoadCascade(string path) => Load(path, CaseKinds.Cascade, ReadCascade);
 
-    public static DesignCase LoadDesign(string path) => Load(path, ReadDesign);
+    public static DesignCase LoadDesign(string path) => Load(path, CaseKinds.Design, ReadDesign);
 
     public static SplitCase? ReadSplit(JsonValue root)
     {
@@ -25,6 +25,7 @@ public static class CaseReader
 
         SystemFile? system = ReadSystem(o);
         double? t = ReadTemperature(o, system);
+        system = system is not null && t is double st ? EquilibriumModelFactory.AtTemperature(system, st) : system;
         var inlets = new List<MaterialStream>();
         if (o.Get("inlets")?.AsArray(1) is { } items && system is not null)
         {
@@ -56,6 +57,11 @@ public static class CaseReader
         }
 
         string? findText = o.Get("find")?.AsChoice("stages", "solvent", "minimum-solvent");
+        if (o.Get("arrangement", required: false) is { Kind: JsonValueKind.String } av && av.Element.GetString() == "crosscurrent")
+        {
+            o.Fail("arrangement", "design calculations are for counter-current cascades; use \"countercurrent\" (solve a cross-current cascade with 'tieflow calc cascade')");
+        }
+
         DesignGoal find = findText switch { "solvent" => DesignGoal.Solvent, "minimum-solvent" => DesignGoal.MinimumSolvent, _ => DesignGoal.Stages };
         CascadeCase? cascade = ReadCascadeFields(o, stagesRequired: find == DesignGoal.Solvent, solventFlowRequired: find == DesignGoal.Stages);
         DesignTarget? target = null;
@@ -73,6 +79,10 @@ public static class CaseReader
                 if (recovery >= 1)
                 {
                     t.Fail("recovery", "a recovery of 1 needs infinitely many stages; expected a value below 1");
+                }
+                else if (fraction >= 1)
+                {
+                    t.Fail("raffinateFraction", "a raffinate of pure solute asks for no extraction; expected a solute fraction below 1");
                 }
                 else if (fraction is > 0 and < 1)
                 {
@@ -116,11 +126,15 @@ public static class CaseReader
         return new MaterialStream(flow ?? 0, composition.Value);
     }
 
+    /// <summary>Every temperature a case may name, kelvin: what data without a temperature are valid for.</summary>
+    public static readonly TemperatureRange AnyTemperature = new(100, 800);
+
     /// <summary>Temperatures for which the data of a system file may be used.</summary>
     public static TemperatureRange ValidTemperatures(EquilibriumSpec spec) => spec switch
     {
         TieLineSpec t => TemperatureRange.Around(t.TemperatureKelvin, SystemFileReader.SingleTemperatureToleranceKelvin),
-        DistributionSpec d => TemperatureRange.Around(d.TemperatureKelvin, SystemFileReader.SingleTemperatureToleranceKelvin),
+        DistributionSpec { TemperatureKelvin: double dt } => TemperatureRange.Around(dt, SystemFileReader.SingleTemperatureToleranceKelvin),
+        DistributionSpec => AnyTemperature,
         NrtlSpec n => n.ValidTemperatures,
         UniquacSpec u => u.ValidTemperatures,
         _ => throw new ArgumentOutOfRangeException(nameof(spec), spec, "Unknown equilibrium data."),
@@ -130,13 +144,23 @@ public static class CaseReader
     {
         SystemFile? system = ReadSystem(o);
         double? t = ReadTemperature(o, system);
+        system = system is not null && t is double st ? EquilibriumModelFactory.AtTemperature(system, st) : system;
         string? arrangement = o.Get("arrangement")?.AsChoice("countercurrent", "crosscurrent");
         int? stages = o.Get("stages", stagesRequired)?.AsInteger(1, 200);
         MaterialStream? feed = null, solvent = null;
+        IReadOnlyList<double>? solventFlows = null;
         if (system is not null)
         {
             feed = o.Get("feed") is { } f ? ReadStream(f, system.System, flowRequired: true) : null;
-            solvent = o.Get("solvent") is { } s ? ReadStream(s, system.System, flowRequired: solventFlowRequired) : null;
+            JsonValue? solventValue = o.Get("solvent");
+            if (solventValue is { Kind: JsonValueKind.Object } sl && sl.Element.TryGetProperty("flow", out JsonElement flowElement) && flowElement.ValueKind == JsonValueKind.Array)
+            {
+                (solvent, solventFlows) = ReadSolventFlowList(o, sl, system.System, arrangement, stages);
+            }
+            else
+            {
+                solvent = solventValue is { } s ? ReadStream(s, system.System, flowRequired: solventFlowRequired) : null;
+            }
             if (feed is { Flow: <= 0 })
             {
                 o.Fail("feed.flow", "the feed flow must be above zero");
@@ -160,7 +184,55 @@ public static class CaseReader
         }
 
         var kind = arrangement == "crosscurrent" ? CascadeArrangement.Crosscurrent : CascadeArrangement.Countercurrent;
-        return new CascadeCase(o.File, system, t.Value, kind, stages ?? 0, feed.Value, solvent.Value, efficiencies);
+        return new CascadeCase(o.File, system, t.Value, kind, stages ?? 0, feed.Value, solvent.Value, efficiencies) { SolventFlows = solventFlows };
+    }
+
+    // A cross-current case may feed each stage its own fresh solvent flow: "solvent": { "flow": [f1, f2, ...], "composition": {...} }.
+    private static (MaterialStream? Solvent, IReadOnlyList<double>? Flows) ReadSolventFlowList(JsonObject o, JsonValue solventValue, TernarySystem system, string? arrangement, int? stages)
+    {
+        if (solventValue.AsObject("flow", "composition") is not { } so)
+        {
+            return (null, null);
+        }
+
+        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        JsonValue flowValue = so.Get("flow")!.Value;
+        Ternary? composition = so.Get("composition") is { } c ? SystemFileReader.ReadComposition(c, system) : null;
+        if (arrangement is not null && arrangement != "crosscurrent")
+        {
+            flowValue.Fail("a list of solvent flows (one per stage) is for cross-current cascades; a counter-current cascade has one solvent inlet, so give one number");
+            return (null, null);
+        }
+
+        if (o.Has("find"))
+        {
+            flowValue.Fail("a design case takes one solvent flow; give one number");
+            return (null, null);
+        }
+
+        if (flowValue.AsArray(1) is not { } items)
+        {
+            return (null, null);
+        }
+
+        if (stages is int n && items.Count != n)
+        {
+            flowValue.Fail($"expected one solvent flow per stage ({n}), found {items.Count}");
+            return (null, null);
+        }
+
+        var flows = new double[items.Count];
+        for (int i = 0; i < items.Count; i++)
+        {
+            if (items[i].AsNumber(0, 1e9, minExclusive: true, unit: unit) is not double f)
+            {
+                return (null, null);
+            }
+
+            flows[i] = f;
+        }
+
+        return composition is null ? (null, null) : (new MaterialStream(flows[0], composition.Value), flows);
     }
 
     /// <summary>Reads the optional <c>efficiency</c> member: one number for every stage, or one per stage; 1 when absent.</summary>
@@ -227,8 +299,20 @@ public static class CaseReader
             return null;
         }
 
+        if (InputFiles.InvalidPathReason(relative) is { } reason)
+        {
+            v.Fail($"'{InputFiles.Printable(relative)}' cannot be a path: {reason}");
+            return null;
+        }
+
         string baseDir = Path.GetDirectoryName(Path.GetFullPath(o.File)) ?? ".";
         string full = Path.GetFullPath(Path.Combine(baseDir, relative));
+        if (InputFiles.NotARegularFile(full) is { } what)
+        {
+            v.Fail($"'{relative}' is {what}, not a regular file (looked for {full}); give the path of a system file");
+            return null;
+        }
+
         if (!File.Exists(full))
         {
             v.Fail($"the system file '{relative}' does not exist (looked for {full}); the path is relative to the case file");
@@ -267,10 +351,11 @@ public static class CaseReader
         return t;
     }
 
-    private static T Load<T>(string path, Func<JsonValue, T?> read)
+    private static T Load<T>(string path, string kind, Func<JsonValue, T?> read)
         where T : class
     {
         using JsonDocument doc = JsonInputFile.Load(path);
+        CaseKinds.Expect(doc.RootElement, path, kind);
         var problems = new InputProblems();
         T? result = read(new JsonValue(doc.RootElement, path, "$", problems));
         problems.ThrowIfAny();

@@ -18,7 +18,15 @@ public sealed record CascadeCase(
     int Stages,
     MaterialStream Feed,
     MaterialStream Solvent,
-    IReadOnlyList<double> Efficiencies);
+    IReadOnlyList<double> Efficiencies)
+{
+    /// <summary>
+    /// Cross-current only: the fresh solvent flow of each stage, stage 1 first, when the case gives a list
+    /// (<c>"solvent": { "flow": [150, 120, 100], ... }</c>); <see cref="Solvent"/> then carries the first flow. Null
+    /// when one flow feeds every stage.
+    /// </summary>
+    public IReadOnlyList<double>? SolventFlows { get; init; }
+}
 
 /// <summary>What a design case asks for.</summary>
 public enum DesignGoal

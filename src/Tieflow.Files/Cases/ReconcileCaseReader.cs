@@ -3,12 +3,25 @@ using Tieflow.Core.Reconciliation;
 
 namespace Tieflow.Files;
 
-/// <summary>Reads reconcile case files (CONTRACTS.md) strictly, collecting every problem with its file and JSON path.</summary>
+/// <summary>Reads reconcile case files (docs/file-formats.md) strictly, collecting every problem with its file and JSON path.</summary>
 public static class ReconcileCaseReader
 {
+    /// <summary>Smallest significance of the gross-error tests; below it the critical values lose meaning.</summary>
+    public const double MinSignificance = 1e-6;
+
+    /// <summary>Largest magnitude of a flow reading, in the flow unit of the case.</summary>
+    public const double MaxFlowReading = 1e9;
+
+    /// <summary>Sigma of a reading relative to its scale (|value|, at least 1 for flows; 1 for fractions): at least this...</summary>
+    public const double MinRelativeSigma = 1e-6;
+
+    /// <summary>...and at most this for flows (a fraction's sigma is at most 1).</summary>
+    public const double MaxRelativeSigma = 1e3;
+
     public static ReconcileCase Load(string path)
     {
         using JsonDocument doc = JsonInputFile.Load(path);
+        CaseKinds.Expect(doc.RootElement, path, CaseKinds.Reconcile);
         var problems = new InputProblems();
         ReconcileCase? result = Read(new JsonValue(doc.RootElement, path, "$", problems));
         problems.ThrowIfAny();
@@ -38,7 +51,7 @@ public static class ReconcileCaseReader
         }
 
         List<Measurement>? measurements = o.Get("measurements") is { } mv ? ReadMeasurements(mv, streams, components) : null;
-        double significance = o.Get("significance", required: false)?.AsNumber(0, 0.5, minExclusive: true, unit: "(the probability of a false alarm of the tests)") ?? 0.05;
+        double significance = o.Get("significance", required: false)?.AsNumber(MinSignificance, 0.5, unit: "(the probability of a false alarm of the tests)") ?? 0.05;
         int maxIterations = o.Get("maxIterations", required: false)?.AsInteger(1, 1000) ?? ReconciliationOptions.Default.MaxIterations;
         if (components is null || nodes is null || streams is null || measurements is null || o.Problems.Any)
         {
@@ -60,7 +73,7 @@ public static class ReconcileCaseReader
         bool ok = true;
         for (int i = 0; i < items.Count; i++)
         {
-            if (items[i].AsString() is not { } id)
+            if (Identifiers.Read(items[i]) is not { } id)
             {
                 ok = false;
                 continue;
@@ -98,7 +111,7 @@ public static class ReconcileCaseReader
                 continue;
             }
 
-            string? id = s.Get("id")?.AsString();
+            string? id = s.Get("id") is { } idValue ? Identifiers.Read(idValue) : null;
             string? from = ReadEnd(s, "from", known);
             string? to = ReadEnd(s, "to", known);
             if (id is not null && !first.TryAdd(id, i))
@@ -148,7 +161,9 @@ public static class ReconcileCaseReader
     }
 
     // "sigma" in the unit of the reading, or "relativeSigma" as a fraction of the reading (0.02 for 2 %); exactly one.
-    private static double? ReadSigma(JsonObject m, double? reading)
+    // The sigma must be finite and in a range relative to the reading's scale: a sigma of 1e-300 would give the reading
+    // a weight the arithmetic cannot hold, one of 1e308 a reading that carries nothing.
+    private static double? ReadSigma(JsonObject m, double? reading, bool isFraction)
     {
         bool hasAbsolute = m.Has("sigma"), hasRelative = m.Has("relativeSigma");
         if (hasAbsolute == hasRelative)
@@ -161,10 +176,26 @@ public static class ReconcileCaseReader
 
         if (hasAbsolute)
         {
-            return m.Get("sigma")!.Value.AsNumber(0, double.PositiveInfinity, minExclusive: true, unit: "(the standard deviation of the reading, in its unit)");
+            JsonValue sv = m.Get("sigma")!.Value;
+            double? sigma = sv.AsNumber(0, double.PositiveInfinity, minExclusive: true, unit: "(the standard deviation of the reading, in its unit)");
+            if (sigma is not double sd || reading is not double value)
+            {
+                return null;
+            }
+
+            double scale = isFraction ? 1 : Math.Max(Math.Abs(value), 1);
+            double low = MinRelativeSigma * scale, high = isFraction ? 1 : MaxRelativeSigma * scale;
+            if (sd < low || sd > high)
+            {
+                sv.Fail($"expected a sigma between {low:G3} and {high:G3} for this reading ({(isFraction ? "a fraction" : $"from {MinRelativeSigma:G} to {MaxRelativeSigma:G} times the reading, or times 1 when the reading is below 1")}), found {sd:G6}; " +
+                    "leave a quantity unmeasured rather than give it a huge sigma");
+                return null;
+            }
+
+            return sd;
         }
 
-        double? relative = m.Get("relativeSigma")!.Value.AsNumber(0, 1, minExclusive: true, unit: "(a fraction of the reading)");
+        double? relative = m.Get("relativeSigma")!.Value.AsNumber(MinRelativeSigma, 1, unit: "(a fraction of the reading)");
         if (relative is not double r || reading is not double v)
         {
             return null;
@@ -199,7 +230,7 @@ public static class ReconcileCaseReader
                 continue;
             }
 
-            string? stream = m.Get("stream")?.AsString();
+            string? stream = m.Get("stream") is { } stv ? Identifiers.Read(stv) : null;
             if (stream is not null && streamIds is not null && !streamIds.Contains(stream))
             {
                 m.Fail("stream", $"'{stream}' is not a stream of the network; expected one of: {string.Join(", ", streamIds)}");
@@ -216,7 +247,7 @@ public static class ReconcileCaseReader
                     m.Fail("component", "a flow measurement has no component; remove the key or measure a \"fraction\"");
                 }
 
-                reading = m.Get("value")?.AsNumber(unit: "(the flow unit of the case)");
+                reading = m.Get("value")?.AsNumber(-MaxFlowReading, MaxFlowReading, unit: "(the flow unit of the case)");
             }
             else if (quantity == "fraction")
             {
@@ -224,7 +255,7 @@ public static class ReconcileCaseReader
                 {
                     m.Fail("quantity", "the network declares no components (flow-only), so it has no fractions to measure; declare \"components\" or measure a \"flow\"");
                 }
-                else if (m.Get("component")?.AsString() is { } c)
+                else if (m.Get("component") is { } cv && Identifiers.Read(cv) is { } c)
                 {
                     if (componentIds is not null && !componentIds.Contains(c))
                     {
@@ -239,7 +270,7 @@ public static class ReconcileCaseReader
                 reading = m.Get("value")?.AsNumber(0, 1, unit: "(a fraction)");
             }
 
-            double? sigma = ReadSigma(m, reading);
+            double? sigma = ReadSigma(m, reading, quantity == "fraction");
             if (stream is null || quantity is null || (quantity == "fraction" && component is null) || reading is null || sigma is null)
             {
                 ok = false;

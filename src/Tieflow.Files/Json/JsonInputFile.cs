@@ -2,30 +2,13 @@ using System.Text.Json;
 
 namespace Tieflow.Files;
 
-/// <summary>Reads a JSON file into a document, turning a missing file or malformed JSON into an <see cref="InputException"/> that names the file and the place.</summary>
+/// <summary>Reads a JSON file into a document, turning a missing, special or oversized file or malformed JSON into an <see cref="InputException"/> that names the file and the place.</summary>
 public static class JsonInputFile
 {
     private static readonly JsonDocumentOptions Options = new() { CommentHandling = JsonCommentHandling.Skip, AllowTrailingCommas = false, MaxDepth = 64 };
 
-    public static JsonDocument Load(string path)
-    {
-        if (!System.IO.File.Exists(path))
-        {
-            throw new InputException(path, "$", "the file does not exist");
-        }
-
-        string text;
-        try
-        {
-            text = System.IO.File.ReadAllText(path);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            throw new InputException(path, "$", $"the file cannot be read: {e.Message}");
-        }
-
-        return Parse(text, path);
-    }
+    /// <summary>Reads and parses a regular file of at most <paramref name="maxBytes"/> bytes (see <see cref="InputFiles"/>).</summary>
+    public static JsonDocument Load(string path, long maxBytes = InputFiles.MaxCaseFileBytes) => Parse(InputFiles.ReadText(path, maxBytes), path);
 
     public static JsonDocument Parse(string text, string path)
     {

@@ -16,5 +16,9 @@ public sealed record NrtlSpec(IReadOnlyList<NrtlPair> Pairs, TemperatureRange Va
 /// <summary>UNIQUAC structure parameters (role order), pairs and the temperatures the parameters are meant for.</summary>
 public sealed record UniquacSpec(IReadOnlyList<UniquacComponent> Structure, IReadOnlyList<UniquacPair> Pairs, TemperatureRange ValidTemperatures) : EquilibriumSpec("uniquac");
 
-/// <summary>A distribution isotherm on solute-free ratios, measured at one temperature (kelvin).</summary>
-public sealed record DistributionSpec(double TemperatureKelvin, DistributionIsotherm Isotherm) : EquilibriumSpec("distribution");
+/// <summary>A distribution isotherm on solute-free ratios, measured at one temperature (kelvin), or at none: then it holds at any temperature.</summary>
+public sealed record DistributionSpec(double? TemperatureKelvin, DistributionIsotherm Isotherm) : EquilibriumSpec("distribution")
+{
+    /// <summary>The temperature a model is built at when the file names none (it is rebuilt at a case's temperature).</summary>
+    public const double AnyTemperatureReferenceKelvin = 298.15;
+}

@@ -7,7 +7,7 @@ using Tieflow.Core.Equilibrium.Distribution;
 namespace Tieflow.Files;
 
 /// <summary>
-/// Reads system files (components and equilibrium, CONTRACTS.md) strictly: every problem is collected with its file
+/// Reads system files (components and equilibrium, docs/file-formats.md) strictly: every problem is collected with its file
 /// and JSON path. Temperatures are kelvin; compositions are on the file's basis.
 /// </summary>
 public static class SystemFileReader
@@ -32,6 +32,8 @@ public static class SystemFileReader
     /// <summary>Reads a system from a JSON value (a whole file, or an inline <c>system</c> object of a case).</summary>
     public static SystemFile? Read(JsonValue value)
     {
+        // Problems found before this system (in other units of a plant file) must not make this one unusable.
+        int before = value.Problems.Items.Count;
         JsonObject? root = value.AsObject("name", "basis", "components", "equilibrium");
         if (root is not { } o)
         {
@@ -39,6 +41,12 @@ public static class SystemFileReader
         }
 
         string? name = o.Get("name")?.AsString();
+        if (name is not null && (name.Length > 200 || name.Any(char.IsControl)))
+        {
+            o.Fail("name", "expected a name of at most 200 characters without control characters");
+            name = null;
+        }
+
         string? basisText = o.Get("basis")?.AsChoice("mass", "mole");
         CompositionBasis basis = basisText == "mole" ? CompositionBasis.Mole : CompositionBasis.Mass;
 
@@ -48,6 +56,14 @@ public static class SystemFileReader
         {
             eq = eqValue.AsObject("model", "temperature", "tieLines", "pairs", "k", "isotherm", "temperatureRange");
             modelName = eq?.Get("model")?.AsChoice(Models);
+            if (eq is { } used && modelName is not null)
+            {
+                string[] own = ModelKeys(modelName);
+                foreach (string key in new[] { "temperature", "tieLines", "pairs", "k", "isotherm", "temperatureRange" }.Where(k => used.Has(k) && Array.IndexOf(own, k) < 0))
+                {
+                    used.Fail(key, $"the {modelName} model has no \"{key}\"; expected only: model, {string.Join(", ", own)} (or 'notes')");
+                }
+            }
         }
 
         var (components, structure) = ReadComponents(o, modelName == "uniquac");
@@ -76,7 +92,7 @@ public static class SystemFileReader
             "uniquac" => ReadUniquac(e2, system, structure!),
             _ => ReadDistribution(e2, system),
         };
-        if (spec is null || value.Problems.Any)
+        if (spec is null || value.Problems.Items.Count != before)
         {
             return null;
         }
@@ -144,7 +160,7 @@ public static class SystemFileReader
                 continue;
             }
 
-            string? id = c.Get("id")?.AsString();
+            string? id = c.Get("id") is { } idValue ? Identifiers.Read(idValue) : null;
             string? role = c.Get("role")?.AsChoice("solute", "diluent", "solvent");
             double? molarMass = c.Get("molarMass")?.AsNumber(0, 10000, minExclusive: true, unit: "kg/kmol");
             double? r = c.Get("r", needStructure)?.AsNumber(0, 1000, minExclusive: true);
@@ -331,10 +347,16 @@ public static class SystemFileReader
         return ok ? pairs : null;
     }
 
+    /// <summary>Largest solute-free ratio in an isotherm (kg solute per kg diluent or solvent) and the range of a constant k.</summary>
+    public const double MaxIsothermRatio = 1000;
+
     private static DistributionSpec? ReadDistribution(JsonObject eq, TernarySystem system)
     {
         _ = system;
-        double? t = ReadTemperature(eq);
+
+        // A distribution coefficient need not name a temperature: without one it is taken to hold at any temperature.
+        double? t = eq.Has("temperature") ? ReadTemperature(eq) : null;
+        bool temperatureOk = !eq.Has("temperature") || t is not null;
         bool hasK = eq.Has("k"), hasTable = eq.Has("isotherm");
         if (hasK == hasTable)
         {
@@ -345,7 +367,7 @@ public static class SystemFileReader
         DistributionIsotherm? isotherm = null;
         if (hasK)
         {
-            double? k = eq.Get("k")!.Value.AsNumber(0, double.PositiveInfinity, minExclusive: true);
+            double? k = eq.Get("k")!.Value.AsNumber(1e-6, 1e6, unit: "(Y per X, solute-free ratios)");
             isotherm = k is null ? null : DistributionIsotherm.Constant(k.Value);
         }
         else if (eq.Get("isotherm")!.Value.AsArray(2) is { } rows)
@@ -353,7 +375,8 @@ public static class SystemFileReader
             var points = new List<(double X, double Y)>();
             foreach (JsonValue row in rows)
             {
-                if (row.AsArray(2) is { Count: 2 } xy && xy[0].AsNumber(0) is double x && xy[1].AsNumber(0) is double y)
+                if (row.AsArray(2) is { Count: 2 } xy && xy[0].AsNumber(0, MaxIsothermRatio, unit: "(kg solute per kg diluent)") is double x
+                    && xy[1].AsNumber(0, MaxIsothermRatio, unit: "(kg solute per kg solvent)") is double y)
                 {
                     if (points.Count > 0 && (x <= points[^1].X || y <= points[^1].Y))
                     {
@@ -365,7 +388,7 @@ public static class SystemFileReader
                 }
                 else
                 {
-                    row.Fail("expected a pair [X, Y] of ratios that are zero or more");
+                    row.Fail($"expected a pair [X, Y] of solute-free ratios from 0 to {MaxIsothermRatio:G}");
                     return null;
                 }
             }
@@ -373,7 +396,7 @@ public static class SystemFileReader
             isotherm = DistributionIsotherm.Table(points);
         }
 
-        return t is null || isotherm is null ? null : new DistributionSpec(t.Value, isotherm);
+        return !temperatureOk || isotherm is null ? null : new DistributionSpec(t, isotherm);
     }
 
     private static int ReadComponentRef(JsonObject p, string key, TernarySystem system)
@@ -392,6 +415,13 @@ public static class SystemFileReader
 
         return index;
     }
+
+    private static string[] ModelKeys(string model) => model switch
+    {
+        "tie-lines" => ["temperature", "tieLines"],
+        "nrtl" or "uniquac" => ["pairs", "temperatureRange"],
+        _ => ["temperature", "k", "isotherm"],
+    };
 
     private static double? ReadTemperature(JsonObject eq) => eq.Get("temperature")?.AsNumber(100, 800, unit: "K");
 

@@ -181,7 +181,7 @@ public sealed class UaClient : IAsyncDisposable
 
     private static EndpointDescription ChooseEndpoint(EndpointDescription[] endpoints)
     {
-        // Chosen by mode, policy and transport, never by the advertised host (digest §1.6, §5).
+        // Chosen by mode, policy and transport, never by the advertised host (docs/opcua.md §1.6, §5).
         var none = endpoints.Where(e => e.SecurityMode == MessageSecurityMode.None
                 && string.Equals(e.SecurityPolicyUri, SecureChannelCodec.SecurityPolicyNoneUri, StringComparison.Ordinal)
                 && (string.IsNullOrEmpty(e.TransportProfileUri) || string.Equals(e.TransportProfileUri, TransportProfileUri, StringComparison.Ordinal)))
@@ -689,7 +689,7 @@ public sealed class UaClient : IAsyncDisposable
     {
         var longest = Subscriptions().Select(s => s.KeepAlivePeriod).DefaultIfEmpty(TimeSpan.Zero).Max();
 
-        // A server may park a Publish up to N keep-alive periods (digest §1.11 step 6).
+        // A server may park a Publish up to N keep-alive periods (docs/opcua.md §1.11 step 6).
         return (longest * (_publishTarget + 1)) + _options.RequestTimeout;
     }
 
@@ -793,7 +793,7 @@ public sealed class UaClient : IAsyncDisposable
             subscription.LastAliveTimestamp = _time.GetTimestamp();
             var seq = message.SequenceNumber;
 
-            // A keep-alive carries the number the next data message will use, so it consumes nothing (digest §1.11):
+            // A keep-alive carries the number the next data message will use, so it consumes nothing (docs/opcua.md §1.11):
             // either way every number below seq should have arrived.
             var last = subscription.LastSequenceNumber;
             if (last != 0 && seq > last + 1 && seq - last < 1000)
@@ -1006,7 +1006,7 @@ public sealed class UaClient : IAsyncDisposable
 
         if (sessionRestored)
         {
-            // The server kept the session and its subscriptions: Republish fills what was missed (digest §1.13 step 5).
+            // The server kept the session and its subscriptions: Republish fills what was missed (docs/opcua.md §1.13 step 5).
             // Nothing is lost, but the plant was not observed live meanwhile (a frozen server samples nothing), so the
             // interval is still reported for the store to mark.
             var restoredAt = _time.GetUtcNow().UtcDateTime;

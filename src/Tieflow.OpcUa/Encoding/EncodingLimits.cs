@@ -1,7 +1,7 @@
 namespace Tieflow.OpcUa.Encoding;
 
 /// <summary>
-/// Limits the decoder checks before allocating (project OPC UA digest §3). Input over a limit is refused with
+/// Limits the decoder checks before allocating (docs/opcua.md §3). Input over a limit is refused with
 /// <see cref="StatusCodes.BadEncodingLimitsExceeded"/>.
 /// </summary>
 public sealed class EncodingLimits

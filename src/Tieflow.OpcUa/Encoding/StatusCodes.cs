@@ -1,8 +1,8 @@
 namespace Tieflow.OpcUa.Encoding;
 
 /// <summary>
-/// The status codes Tieflow names (values from the OPC Foundation's StatusCode.csv, as listed in the project's
-/// OPC UA digest §1.15). Names are the Foundation's symbols without the underscore.
+/// The status codes Tieflow names (values from the OPC Foundation's StatusCode.csv, as summarised in
+/// docs/opcua.md §1.15). Names are the Foundation's symbols without the underscore.
 /// </summary>
 public static class StatusCodes
 {

@@ -1,6 +1,6 @@
 namespace Tieflow.OpcUa.Encoding;
 
-/// <summary>NodeIds of namespace 0 that Tieflow uses (project OPC UA digest §1.5).</summary>
+/// <summary>NodeIds of namespace 0 that Tieflow uses (docs/opcua.md §1.5).</summary>
 public static class WellKnownNodes
 {
     /// <summary>Root folder (i=84).</summary>

@@ -246,7 +246,7 @@ internal sealed class ServerConnection
         }
         _receiveBufferSize = (int)ack.ReceiveBufferSize;
         _codec.PeerReceiveBufferSize = (int)ack.SendBufferSize;
-        // 0 from the peer means "no limit": our own limit applies then (digest §5, MaxMessageSize 0); the codec refuses
+        // 0 from the peer means "no limit": our own limit applies then (docs/opcua.md §5, MaxMessageSize 0); the codec refuses
         // a response over this and SendResponse answers BadResponseTooLarge instead.
         _codec.PeerMaxMessageSize = Math.Min(hello.MaxMessageSize == 0 ? uint.MaxValue : hello.MaxMessageSize, (uint)_limits.Transport.MaxMessageSize);
         _codec.PeerMaxChunkCount = hello.MaxChunkCount;
@@ -310,7 +310,7 @@ internal sealed class ServerConnection
             if (issue)
             {
                 _codec.ChannelId = _engine.NextChannelId();
-                // A renewed token is used for responses only once the client has used it (digest §1.12).
+                // A renewed token is used for responses only once the client has used it (docs/opcua.md §1.12).
                 _codec.SendTokenId = tokenId;
             }
             var response = new OpenSecureChannelResponse
@@ -340,7 +340,7 @@ internal sealed class ServerConnection
     {
         RequireChannel(frame);
         var message = _codec.AddChunk(frame);
-        // Secure every response with the newest token the client has used (digest §1.12).
+        // Secure every response with the newest token the client has used (docs/opcua.md §1.12).
         var tokenId = BinaryPrimitives.ReadUInt32LittleEndian(frame.Buffer.AsSpan(TcpMessageType.HeaderSize + 4));
         if (tokenId == _tokens.CurrentTokenId)
         {

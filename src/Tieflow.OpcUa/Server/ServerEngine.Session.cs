@@ -12,7 +12,7 @@ internal sealed partial class ServerEngine
     private const string UserNamePolicyId = "username";
 
     /// <summary>
-    /// The endpoint URL as the client should see it: the host the client named (digest §2.2 and §5: node-opcua's
+    /// The endpoint URL as the client should see it: the host the client named (docs/opcua.md §2.2 and §5: node-opcua's
     /// client compares the whole URL), our port and resource path.
     /// </summary>
     public string EndpointUrlFor(string? requestedUrl)

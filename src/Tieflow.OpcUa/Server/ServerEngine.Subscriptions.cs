@@ -372,7 +372,7 @@ internal sealed partial class ServerEngine
         return (StatusCodes.Good, new MonitoredItemSettings(parameters.ClientHandle, sampling, queue, parameters.DiscardOldest, timestamps, filter));
     }
 
-    /// <summary>Checks a monitoring filter against the node (digest §1.10 for the per-item errors node-opcua gives).</summary>
+    /// <summary>Checks a monitoring filter against the node (docs/opcua.md §1.10 for the per-item errors node-opcua gives).</summary>
     private static (StatusCode Status, DataChangeSettings? Filter) ValidateFilter(ServerNode node, uint attributeId, ExtensionObject filter)
     {
         if (filter.IsNull || (filter.Body is null && filter.TypeId.IsNull))

@@ -3,7 +3,7 @@ using Tieflow.OpcUa.Encoding;
 namespace Tieflow.OpcUa.Server;
 
 /// <summary>
-/// The services of the server (project OPC UA digest §2.1) over one address space. Every request is handled under one
+/// The services of the server (docs/opcua.md §2.1) over one address space. Every request is handled under one
 /// lock, so the address space, the sessions and the subscriptions need no locking of their own; responses are queued
 /// on the connections, never written while the lock is held.
 /// </summary>
@@ -156,7 +156,7 @@ internal sealed partial class ServerEngine : IDisposable
     }
 
     /// <summary>
-    /// Shutdown (digest §2.4): ServerStatus.State becomes Shutdown, parked Publish requests are answered with
+    /// Shutdown (docs/opcua.md §2.4): ServerStatus.State becomes Shutdown, parked Publish requests are answered with
     /// Bad_SessionClosed, then the connections are closed once their queued messages are written.
     /// </summary>
     public List<ServerConnection> BeginShutdown()

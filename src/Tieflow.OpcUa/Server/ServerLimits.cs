@@ -3,7 +3,7 @@ using Tieflow.OpcUa.Transport;
 
 namespace Tieflow.OpcUa.Server;
 
-/// <summary>Transport and decoder limits of the server (project OPC UA digest §3).</summary>
+/// <summary>Transport and decoder limits of the server (docs/opcua.md §3).</summary>
 internal sealed class ServerLimits
 {
     /// <summary>Buffer sizes, MaxMessageSize and MaxChunkCount announced in the Acknowledge and enforced on receipt.</summary>

@@ -3,7 +3,7 @@ using Tieflow.OpcUa.Encoding;
 namespace Tieflow.OpcUa.Server;
 
 /// <summary>
-/// The part of namespace 0 that generic clients expect (digest §2.3): Root, Objects, Types, Views, the Server object
+/// The part of namespace 0 that generic clients expect (docs/opcua.md §2.3): Root, Objects, Types, Views, the Server object
 /// with NamespaceArray, ServerArray, ServerStatus and ServerCapabilities/OperationLimits, and the type nodes our
 /// references point to.
 /// </summary>

@@ -8,7 +8,7 @@ namespace Tieflow.OpcUa.Server;
 /// <summary>
 /// A small OPC UA server (UA TCP, SecurityPolicy None, anonymous or clear-text users) for the plant simulator and for
 /// tests: folders, objects and variables under the Objects folder in one namespace (index 2), the standard Server
-/// object, and the services of the project's OPC UA digest §2.1 (browse, read, subscriptions; no writes).
+/// object, and the services of docs/opcua.md §2.1 (browse, read, subscriptions; no writes).
 /// </summary>
 /// <remarks>
 /// Build the address space with <see cref="AddFolder"/>, <see cref="AddObject"/> and <see cref="AddVariable"/>, before

@@ -6,7 +6,7 @@ namespace Tieflow.OpcUa.Transport;
 
 /// <summary>
 /// The client end of a UA TCP connection with a SecurityPolicy None secure channel: Hello/Acknowledge (waiting for
-/// the ACK before anything else, digest §1.1), OpenSecureChannel Issue, Renew at 75 % of the revised lifetime,
+/// the ACK before anything else, docs/opcua.md §1.1), OpenSecureChannel Issue, Renew at 75 % of the revised lifetime,
 /// requests matched to responses by request id with a local timeout each, and CloseSecureChannel. When the
 /// connection fails every pending request fails with the reason and <see cref="Completion"/> completes.
 /// </summary>
@@ -381,7 +381,7 @@ internal sealed class ClientSecureChannel : IAsyncDisposable
         _completion.TrySetResult(reason);
     }
 
-    /// <summary>Sends CloseSecureChannel (no response comes, digest §1.1) and closes the socket.</summary>
+    /// <summary>Sends CloseSecureChannel (no response comes, docs/opcua.md §1.1) and closes the socket.</summary>
     public async Task CloseAsync()
     {
         if (_closed == 0 && _stream is not null)

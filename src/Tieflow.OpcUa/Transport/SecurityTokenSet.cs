@@ -2,7 +2,7 @@ namespace Tieflow.OpcUa.Transport;
 
 /// <summary>
 /// The tokens of one secure channel: the newest is used to send; every token is accepted on receipt until it
-/// has lived 125 % of its lifetime (digest §1.12: a peer may still answer parked requests with an old token).
+/// has lived 125 % of its lifetime (docs/opcua.md §1.12: a peer may still answer parked requests with an old token).
 /// </summary>
 internal sealed class SecurityTokenSet
 {

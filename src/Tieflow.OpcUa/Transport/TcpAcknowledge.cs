@@ -12,7 +12,7 @@ internal sealed record TcpAcknowledge(uint ProtocolVersion, uint ReceiveBufferSi
     /// The server's answer to a Hello: the buffer sizes are the smaller of the peer's and the local ones (a server may
     /// only lower them), MaxMessageSize and MaxChunkCount are the local limits.
     /// </summary>
-    /// <exception cref="UaDecodingException">BadConnectionRejected: a buffer in the Hello is below 8192 bytes (as node-opcua answers, digest §3).</exception>
+    /// <exception cref="UaDecodingException">BadConnectionRejected: a buffer in the Hello is below 8192 bytes (as node-opcua answers, docs/opcua.md §3).</exception>
     public static TcpAcknowledge Accept(TcpHello hello, TransportLimits local)
     {
         if (hello.ReceiveBufferSize < MinBufferSize || hello.SendBufferSize < MinBufferSize)

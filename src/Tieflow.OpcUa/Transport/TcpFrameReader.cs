@@ -6,11 +6,11 @@ namespace Tieflow.OpcUa.Transport;
 /// <summary>
 /// Reads whole UA TCP messages (chunks) from a stream. The header is checked before the body is allocated: a known
 /// message type (else BadTcpMessageTypeInvalid), chunk type F/C/A (F only for HEL/ACK/ERR), and
-/// 8 ≤ size ≤ the limit (else BadTcpMessageTooLarge), as in digest §3 rules 1-2.
+/// 8 ≤ size ≤ the limit (else BadTcpMessageTooLarge), as in docs/opcua.md §3 rules 1-2.
 /// </summary>
 internal static class TcpFrameReader
 {
-    /// <summary>Largest message accepted before the Hello has been processed (digest §3).</summary>
+    /// <summary>Largest message accepted before the Hello has been processed (docs/opcua.md §3).</summary>
     public const int MaxSizeBeforeHello = 4096;
 
     public static async ValueTask<TcpFrame> ReadAsync(Stream stream, int maxSize, CancellationToken cancellationToken)

@@ -5,7 +5,7 @@ namespace Tieflow.OpcUa.Transport;
 /// <summary>The Hello message (OPC 10000-6 §7.1.2.3).</summary>
 internal sealed record TcpHello(uint ProtocolVersion, uint ReceiveBufferSize, uint SendBufferSize, uint MaxMessageSize, uint MaxChunkCount, string EndpointUrl)
 {
-    /// <summary>Largest EndpointUrl in bytes (exclusive upper bound 4096, digest §1.2).</summary>
+    /// <summary>Largest EndpointUrl in bytes (exclusive upper bound 4096, docs/opcua.md §1.2).</summary>
     public const int MaxEndpointUrlLength = 4095;
 
     public byte[] Encode()

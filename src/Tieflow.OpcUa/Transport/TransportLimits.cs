@@ -2,7 +2,7 @@ namespace Tieflow.OpcUa.Transport;
 
 /// <summary>
 /// The UA TCP sizes this side announces in Hello/Acknowledge (OPC 10000-6 §7.1.2.3) and enforces on receipt
-/// (project OPC UA digest §3).
+/// (docs/opcua.md §3).
 /// </summary>
 public sealed class TransportLimits
 {

@@ -11,13 +11,12 @@ internal static class CascadeHandler
     public static int Run(CliContext context, string casePath, bool json)
     {
         CascadeCase c = CaseReader.LoadCascade(casePath);
-        var solver = new CascadeSolver(c.System.Model, c.TemperatureKelvin);
-        CascadeResult result = solver.Solve(c.Arrangement, c.Feed, c.Solvent, c.Efficiencies);
+        CascadeResult result = CascadeRun.Solve(c);
         if (json)
         {
             JsonOutput.Print(context.Output, w =>
             {
-                CascadeOutput.WriteJson(w, result, c.System.System);
+                CascadeOutput.WriteJson(w, result, c.System.System, notice: true);
             });
             return ExitCodes.Success;
         }

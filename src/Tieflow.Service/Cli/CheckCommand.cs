@@ -1,34 +1,86 @@
 using System.CommandLine;
 using System.Text.Json;
 using Tieflow.Files;
+using Tieflow.Service.Output;
 
 namespace Tieflow.Service.Cli;
 
-/// <summary><c>tieflow check FILE...</c>: validates input files and lists every problem of each.</summary>
+/// <summary>
+/// <c>tieflow check FILE... [--json]</c>: validates input files and lists every problem of each. Each file is
+/// classified by <see cref="CaseKinds"/> and read by the reader of its kind in <see cref="Readers"/> (the same readers
+/// the commands use, so that check and calc accept the same files). With <c>--json</c>:
+/// <c>{ "files": [{ "file", "kind", "valid", "problems": [{ "file", "path", "message" }] }], "valid", "notice" }</c>.
+/// </summary>
 internal static class CheckCommand
 {
+    /// <summary>The reader of each kind of file; a new kind adds a row here and one in <see cref="CaseKinds.Table"/>.</summary>
+    public static readonly IReadOnlyDictionary<string, Func<JsonValue, object?>> Readers = new Dictionary<string, Func<JsonValue, object?>>
+    {
+        [CaseKinds.System] = v => SystemFileReader.Read(v),
+        [CaseKinds.Split] = v => CaseReader.ReadSplit(v),
+        [CaseKinds.Cascade] = v => CaseReader.ReadCascade(v),
+        [CaseKinds.Design] = v => CaseReader.ReadDesign(v),
+        [CaseKinds.Reconcile] = v => ReconcileCaseReader.Read(v),
+        [CaseKinds.Plant] = v => PlantReader.Read(v),
+        [CaseKinds.Scenario] = v => ScenarioReader.Read(v),
+    };
+
     public static Command Create(CliContext context)
     {
         var files = new Argument<string[]>("FILE") { Description = "Plant, scenario, system or case files to validate", Arity = ArgumentArity.OneOrMore };
-        var command = new Command("check", "Validates plant, scenario, system and case files; exit 0 when all are valid, 2 with every problem listed otherwise.") { files };
-        command.SetAction(parsed => CommandRunner.Run(context, () => Run(context, parsed.GetValue(files)!)));
+        Option<bool> json = CommonOptions.Json();
+        var command = new Command("check", "Validates plant, scenario, system and case files; exit 0 when all are valid, 2 with every problem listed otherwise.") { files, json };
+        command.SetAction(parsed => CommandRunner.Run(context, () => Run(context, parsed.GetValue(files)!, parsed.GetValue(json))));
         return command;
     }
 
-    public static int Run(CliContext context, IReadOnlyList<string> paths)
+    public static int Run(CliContext context, IReadOnlyList<string> paths, bool json = false)
     {
-        int bad = 0;
-        foreach (string path in paths)
+        var results = paths.Select(path => (Path: path, Problems: Check(path, out string kind), Kind: kind)).ToList();
+        int bad = results.Count(r => r.Problems.Count > 0);
+        if (json)
         {
-            IReadOnlyList<InputProblem> problems = Check(path, out string kind);
+            JsonOutput.Print(context.Output, w =>
+            {
+                w.WriteStartObject();
+                w.WriteStartArray("files");
+                foreach (var (path, problems, kind) in results)
+                {
+                    w.WriteStartObject();
+                    w.WriteString("file", path);
+                    w.WriteString("kind", kind);
+                    w.WriteBoolean("valid", problems.Count == 0);
+                    w.WriteStartArray("problems");
+                    foreach (InputProblem p in problems)
+                    {
+                        w.WriteStartObject();
+                        w.WriteString("file", p.File);
+                        w.WriteString("path", p.JsonPath);
+                        w.WriteString("message", p.Message);
+                        w.WriteEndObject();
+                    }
+
+                    w.WriteEndArray();
+                    w.WriteEndObject();
+                }
+
+                w.WriteEndArray();
+                w.WriteBoolean("valid", bad == 0);
+                JsonOutput.WriteNotice(w);
+                w.WriteEndObject();
+            });
+            return bad == 0 ? ExitCodes.Success : ExitCodes.BadInput;
+        }
+
+        foreach (var (path, problems, kind) in results)
+        {
             if (problems.Count == 0)
             {
                 context.Output.WriteLine($"ok: {path} ({kind})");
                 continue;
             }
 
-            bad++;
-            context.Error.WriteLine($"{path}: {problems.Count} problem{(problems.Count == 1 ? string.Empty : "s")}{(kind == "unknown" ? string.Empty : $" ({kind})")}");
+            context.Error.WriteLine($"{path}: {problems.Count} problem{(problems.Count == 1 ? string.Empty : "s")}{(kind == CaseKinds.Unknown ? string.Empty : $" ({kind})")}");
             foreach (InputProblem p in problems)
             {
                 context.Error.WriteLine($"  error: {p}");
@@ -41,7 +93,7 @@ internal static class CheckCommand
     /// <summary>Every problem of one file; <paramref name="kind"/> says what the file was taken to be.</summary>
     public static IReadOnlyList<InputProblem> Check(string path, out string kind)
     {
-        kind = "unknown";
+        kind = CaseKinds.Unknown;
         JsonDocument doc;
         try
         {
@@ -56,19 +108,8 @@ internal static class CheckCommand
         {
             var problems = new InputProblems();
             var root = new JsonValue(doc.RootElement, path, "$", problems);
-            kind = Classify(doc.RootElement);
-            Func<JsonValue, object?>? read = kind switch
-            {
-                "system" => v => SystemFileReader.Read(v),
-                "split case" => v => CaseReader.ReadSplit(v),
-                "cascade case" => v => CaseReader.ReadCascade(v),
-                "design case" => v => CaseReader.ReadDesign(v),
-                "reconcile case" => v => ReconcileCaseReader.Read(v),
-                "plant" => v => PlantReader.Read(v),
-                "scenario" => v => ScenarioReader.Read(v),
-                _ => null,
-            };
-            if (read is null)
+            kind = CaseKinds.Classify(doc.RootElement);
+            if (!Readers.TryGetValue(kind, out Func<JsonValue, object?>? read))
             {
                 problems.Add(path, "$", "cannot tell what kind of file this is; expected a plant file (with \"site\" and \"units\"), a scenario file (with \"plant\" and \"duration\"), a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\", or with \"nodes\" for a reconcile case)");
             }
@@ -79,51 +120,5 @@ internal static class CheckCommand
 
             return problems.Items;
         }
-    }
-
-    private static string Classify(JsonElement root)
-    {
-        if (root.ValueKind != JsonValueKind.Object)
-        {
-            return "unknown";
-        }
-
-        bool Has(string key) => root.TryGetProperty(key, out _);
-        if (Has("units") && Has("site"))
-        {
-            return "plant";
-        }
-
-        if (Has("plant") && Has("duration"))
-        {
-            return "scenario";
-        }
-
-        if (Has("components") && Has("equilibrium"))
-        {
-            return "system";
-        }
-
-        if (Has("find"))
-        {
-            return "design case";
-        }
-
-        if (Has("arrangement"))
-        {
-            return "cascade case";
-        }
-
-        if (Has("inlets"))
-        {
-            return "split case";
-        }
-
-        if (Has("nodes"))
-        {
-            return "reconcile case";
-        }
-
-        return "unknown";
     }
 }

@@ -7,11 +7,17 @@ internal static class CliApp
 {
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
-        var context = new CliContext(output, error);
+        var context = new CliContext(output, error) { Json = args.Contains("--json", StringComparer.Ordinal) };
         RootCommand root = Build(context);
         ParseResult parsed = root.Parse(args);
         if (parsed.Errors.Count > 0)
         {
+            if (context.Json)
+            {
+                context.ReportFailure("error", string.Join("; ", parsed.Errors.Select(e => e.Message)) + "; run 'tieflow --help' (or add --help to a command) for usage", ExitCodes.BadInput);
+                return ExitCodes.BadInput;
+            }
+
             foreach (var e in parsed.Errors)
             {
                 error.WriteLine($"error: {e.Message}");
@@ -31,6 +37,7 @@ internal static class CliApp
             "Read-only towards the plant; not a safety system.");
         root.Subcommands.Add(CalcCommands.Create(context));
         root.Subcommands.Add(CheckCommand.Create(context));
+        root.Subcommands.Add(DescribeCommand.Create(context));
         root.Subcommands.Add(UaCommands.Create(context));
         root.Subcommands.Add(ReplayCommand.Create(context));
         return root;

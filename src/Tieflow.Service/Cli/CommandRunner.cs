@@ -16,28 +16,29 @@ internal static class CommandRunner
         }
         catch (InputException e)
         {
-            foreach (InputProblem p in e.Problems)
-            {
-                context.Error.WriteLine($"error: {p}");
-            }
-
+            context.ReportProblems(e.Problems, ExitCodes.BadInput);
+            return ExitCodes.BadInput;
+        }
+        catch (CliUsageException e)
+        {
+            context.ReportFailure("error", e.Message, ExitCodes.BadInput);
             return ExitCodes.BadInput;
         }
         catch (Exception e) when (IsComputationFailure(e))
         {
-            context.Error.WriteLine($"could not compute: {e.Message}");
+            context.ReportFailure("could not compute", e.Message, ExitCodes.ComputationFailed);
             return ExitCodes.ComputationFailed;
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException or TimeoutException or System.Net.Sockets.SocketException)
         {
             // Runtime failures of the machine or the network: the message says what could not be done.
-            context.Error.WriteLine($"failed: {e.Message}");
+            context.ReportFailure("failed", e.Message, ExitCodes.RuntimeFailure);
             return ExitCodes.RuntimeFailure;
         }
         catch (Exception e)
         {
             // Last resort at the process boundary: a defect must still end with a message and a non-zero code, not a stack dump.
-            context.Error.WriteLine($"internal error ({e.GetType().Name}): {e.Message}");
+            context.ReportFailure("internal error", $"({e.GetType().Name}) {e.Message}", ExitCodes.RuntimeFailure);
             return ExitCodes.RuntimeFailure;
         }
     }

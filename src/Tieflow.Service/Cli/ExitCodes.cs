@@ -1,6 +1,6 @@
 namespace Tieflow.Service.Cli;
 
-/// <summary>Exit codes of every command (CONTRACTS.md).</summary>
+/// <summary>Exit codes of every command (docs/file-formats.md).</summary>
 internal static class ExitCodes
 {
     /// <summary>Success.</summary>

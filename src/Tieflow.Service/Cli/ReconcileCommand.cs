@@ -1,4 +1,3 @@
-using System.Globalization;
 using System.Text.Json;
 using Spectre.Console;
 using Tieflow.Core.Reconciliation;
@@ -64,9 +63,9 @@ internal static class ReconcileCommand
         {
             w.WriteStartObject();
             WriteKey(w, t.Key);
-            w.WriteNumber("adjustment", JsonOutput.Round(t.Adjustment));
-            w.WriteNumber("normalized", JsonOutput.Round(t.Normalized));
-            w.WriteNumber("critical", JsonOutput.Round(t.Critical));
+            JsonOutput.WriteNumber(w, "adjustment", t.Adjustment);
+            JsonOutput.WriteNumber(w, "normalized", t.Normalized);
+            JsonOutput.WriteNumber(w, "critical", t.Critical);
             w.WriteBoolean("suspect", t.Suspect);
             w.WriteEndObject();
         }
@@ -99,14 +98,14 @@ internal static class ReconcileCommand
         WriteNumberOrNull(w, "sigma", e.Sigma);
         if (readings.TryGetValue(e.Key, out double reading))
         {
-            w.WriteNumber("measured", reading);
+            JsonOutput.WriteNumber(w, "measured", reading);
         }
         else
         {
             w.WriteNull("measured");
         }
 
-        // CONTRACTS.md knows three statuses; a measurement that no balance checks is determined (observable) but
+        // The file format (docs/file-formats.md) knows three statuses; a measurement that no balance checks is determined (observable) but
         // not adjusted, which "classification" says.
         w.WriteString("status", e.Status switch
         {
@@ -126,10 +125,10 @@ internal static class ReconcileCommand
     private static void WriteGlobalTest(Utf8JsonWriter w, GlobalTest g)
     {
         w.WriteStartObject();
-        w.WriteNumber("statistic", JsonOutput.Round(g.Statistic));
+        JsonOutput.WriteNumber(w, "statistic", g.Statistic);
         w.WriteNumber("dof", g.DegreesOfFreedom);
-        w.WriteNumber("critical", JsonOutput.Round(g.Critical));
-        w.WriteNumber("pValue", JsonOutput.Round(g.PValue));
+        JsonOutput.WriteNumber(w, "critical", g.Critical);
+        JsonOutput.WriteNumber(w, "pValue", g.PValue);
         w.WriteBoolean("passed", g.Passed);
         w.WriteEndObject();
     }
@@ -177,15 +176,20 @@ internal static class ReconcileCommand
         console.WriteLine($"Reconciliation of {Path.GetFileName(c.Path)}: {network.Nodes.Count} node(s), {network.Streams.Count} stream(s), " +
             (network.IsFlowOnly ? "flow only" : $"components {string.Join(", ", network.Components)}") + $", {c.Measurements.Count} measurement(s)");
 
+        console.WriteLine(report.Suspects.Count == 0
+            ? "No suspect was removed: the estimates, their sigmas and every test are from the one run with every measurement."
+            : $"The estimates and their sigmas are from the run after removing the {report.Suspects.Count} suspect{(report.Suspects.Count == 1 ? string.Empty : "s")} (\"after\"); " +
+              "the normalised adjustments and the tests are from the run with every measurement (\"all\").");
         var table = new Table().Border(TableBorder.Simple);
-        table.AddColumn("stream");
-        table.AddColumn("quantity");
-        table.AddColumn(new TableColumn("measured").RightAligned());
-        table.AddColumn(new TableColumn("estimate").RightAligned());
-        table.AddColumn(new TableColumn("sigma").RightAligned());
-        table.AddColumn("status");
-        table.AddColumn(new TableColumn("normalised adj.").RightAligned());
-        table.AddColumn("test");
+        table.AddColumn(TextOutput.Column("stream", right: false));
+        table.AddColumn(TextOutput.Column("quantity", right: false));
+        table.AddColumn(TextOutput.Column("unit", right: false));
+        table.AddColumn(TextOutput.Column("measured", right: true));
+        table.AddColumn(TextOutput.Column(report.Suspects.Count == 0 ? "estimate" : "estimate (after)", right: true));
+        table.AddColumn(TextOutput.Column("sigma", right: true));
+        table.AddColumn(TextOutput.Column("status", right: false));
+        table.AddColumn(TextOutput.Column("normalised adj. (all)", right: true));
+        table.AddColumn(TextOutput.Column("test (all)", right: false));
         for (int v = 0; v < network.QuantityCount; v++)
         {
             QuantityEstimate e = final.Estimates[v];
@@ -196,6 +200,7 @@ internal static class ReconcileCommand
             table.AddRow(
                 Markup.Escape(e.Key.Stream),
                 Markup.Escape(e.Key.Quantity == MeasuredQuantity.Flow ? "flow" : $"x {e.Key.Component}"),
+                e.Key.Quantity == MeasuredQuantity.Flow ? "case flow unit" : "fraction",
                 measured,
                 e.HasValue ? Num(e.Value, format) : "-",
                 e.HasValue ? Num(e.Sigma, format) : "-",
@@ -213,7 +218,7 @@ internal static class ReconcileCommand
         }
         else
         {
-            console.WriteLine($"Global test: statistic {Num(g.Statistic, "F4")} on {g.DegreesOfFreedom} degree(s) of freedom, critical {Num(g.Critical, "F3")} " +
+            console.WriteLine($"Tests of the run with every measurement. Global test: statistic {Num(g.Statistic, "F4")} on {g.DegreesOfFreedom} degree(s) of freedom, critical {Num(g.Critical, "F3")} " +
                 $"at significance {Num(c.Significance, "G3")}, p = {Num(g.PValue, "G4")}: {(g.Passed ? "passed, no gross error detected" : "failed")}.");
             if (initial.MeasurementTests.Count > 0)
             {
@@ -223,8 +228,8 @@ internal static class ReconcileCommand
 
         if (report.Suspects.Count > 0)
         {
-            console.WriteLine($"Suspects, most suspect first: {string.Join("; ", report.Suspects)}. Estimates above are with them removed " +
-                $"(global test then {Num(final.GlobalTest.Statistic, "F4")} on {final.GlobalTest.DegreesOfFreedom} dof, {(final.GlobalTest.Passed ? "passed" : "failed")}).");
+            console.WriteLine($"Suspects, most suspect first: {string.Join("; ", report.Suspects)}. The estimates above are from the run after removing them " +
+                $"(its global test: statistic {Num(final.GlobalTest.Statistic, "F4")} on {final.GlobalTest.DegreesOfFreedom} dof, {(final.GlobalTest.Passed ? "passed" : "failed")}).");
         }
 
         int unobservable = final.Estimates.Count(e => e.Status == QuantityStatus.Unobservable);
@@ -237,5 +242,5 @@ internal static class ReconcileCommand
         TextOutput.WriteNotice(console);
     }
 
-    private static string Num(double v, string format) => v.ToString(format, CultureInfo.InvariantCulture);
+    private static string Num(double v, string format) => TextOutput.Num(v, format);
 }

@@ -30,8 +30,9 @@ internal static class SplitHandler
                 {
                     JsonOutput.WriteStream(w, "raffinate", raffinate, system);
                     JsonOutput.WriteStream(w, "extract", extract, system);
-                    w.WriteNumber("distributionCoefficient", JsonOutput.Round(split.TieLine.DistributionCoefficient));
-                    w.WriteNumber("selectivity", JsonOutput.Round(split.TieLine.Selectivity));
+                    // 0/0 when the inlets hold no solute: "not defined", null in JSON.
+                    JsonOutput.WriteNumber(w, "distributionCoefficient", split.TieLine.DistributionCoefficient);
+                    JsonOutput.WriteNumber(w, "selectivity", split.TieLine.Selectivity);
                 }
 
                 JsonOutput.WriteNotice(w);
@@ -50,7 +51,7 @@ internal static class SplitHandler
         else
         {
             console.Write(TextOutput.StreamTable(system, [("mixture", mixture), ("raffinate", raffinate), ("extract", extract)]));
-            console.WriteLine($"distribution coefficient K = {split.TieLine.DistributionCoefficient:G5}, selectivity = {split.TieLine.Selectivity:G5}");
+            console.WriteLine($"distribution coefficient K = {TextOutput.Num(split.TieLine.DistributionCoefficient, "G5")}, selectivity = {TextOutput.Num(split.TieLine.Selectivity, "G5")}");
         }
 
         TextOutput.WriteNotice(console);

@@ -96,27 +96,53 @@ internal static class UaBrowseHandler
         }
     }
 
-    /// <summary>Built-in and common data types by name; any other as its NodeId.</summary>
+    /// <summary>
+    /// Standard data types of namespace 0 by their browse names (OPC 10000-5 §12, OPC 10000-3 §8; the numeric ids as
+    /// in the OPC Foundation's NodeIds.csv, the less common ones from memory); any other as its NodeId.
+    /// </summary>
     private static string DataTypeName(NodeId id)
     {
         if (id.NamespaceIndex == 0 && id.IdType == NodeIdType.Numeric)
         {
             var n = id.NumericIdentifier;
-            if (n is >= 1 and <= 25)
-            {
-                return ((BuiltInType)n).ToString();
-            }
             var known = n switch
             {
+                22 => "Structure",
+                24 => "BaseDataType",
+                >= 1 and <= 25 => ((BuiltInType)n).ToString(),
                 26 => "Number",
                 27 => "Integer",
                 28 => "UInteger",
                 29 => "Enumeration",
+                30 => "Image",
+                256 => "IdType",
+                257 => "NodeClass",
+                288 => "IntegerId",
+                289 => "Counter",
                 290 => "Duration",
+                291 => "NumericRange",
+                292 => "Time",
+                293 => "Date",
                 294 => "UtcTime",
+                295 => "LocaleId",
+                296 => "Argument",
+                302 => "MessageSecurityMode",
+                303 => "UserTokenType",
+                307 => "ApplicationType",
+                308 => "ApplicationDescription",
+                338 => "BuildInfo",
+                851 => "RedundancySupport",
                 852 => "ServerState",
                 862 => "ServerStatusDataType",
                 884 => "Range",
+                887 => "EUInformation",
+                2000 => "ImageBMP",
+                2001 => "ImageGIF",
+                2002 => "ImageJPG",
+                2003 => "ImagePNG",
+                7594 => "EnumValueType",
+                8912 => "TimeZoneDataType",
+                12077 => "AxisScaleEnumeration",
                 _ => null,
             };
             if (known is not null)

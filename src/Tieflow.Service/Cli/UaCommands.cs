@@ -4,7 +4,7 @@ using Tieflow.OpcUa.Encoding;
 namespace Tieflow.Service.Cli;
 
 /// <summary>
-/// The <c>ua</c> command group (CONTRACTS.md): an engineer's first check that Tieflow can see a plant's OPC UA
+/// The <c>ua</c> command group (docs/commands.md): an engineer's first check that Tieflow can see a plant's OPC UA
 /// server. Read-only: browse, read and watch.
 /// </summary>
 internal static class UaCommands
@@ -26,6 +26,9 @@ internal static class UaCommands
         HelpName = "NAME",
     };
 
+    private static Option<TimeSpan> ConnectTimeout() => CommonOptions.Duration("--connect-timeout",
+        "One overall deadline for connecting, retries included, e.g. 10s or 00:00:30 (default 10s)", UaSession.DefaultConnectDeadline);
+
     private static Command Browse(CliContext context)
     {
         Option<string> endpoint = Endpoint();
@@ -33,9 +36,10 @@ internal static class UaCommands
         Option<string> node = new("--node") { Description = "Node to start from (default the Objects folder, i=85)", HelpName = "NODEID", DefaultValueFactory = _ => "i=85" };
         Option<int> depth = new("--depth") { Description = "Levels to descend (default 1)", HelpName = "N", DefaultValueFactory = _ => 1 };
         Option<bool> json = CommonOptions.Json();
-        var command = new Command("browse", "Browses from a node: browse names, NodeIds, node classes and data types.") { endpoint, node, depth, user, json };
+        Option<TimeSpan> connectTimeout = ConnectTimeout();
+        var command = new Command("browse", "Browses from a node: browse names, NodeIds, node classes and data types.") { endpoint, node, depth, user, json, connectTimeout };
         command.SetAction(parsed => Run(context, () => UaBrowseHandler.Run(context,
-            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)),
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
             parsed.GetValue(node)!, parsed.GetValue(depth), parsed.GetValue(json))));
         return command;
     }
@@ -46,9 +50,10 @@ internal static class UaCommands
         Option<string?> user = User();
         Option<string[]> nodes = new("--node") { Description = "Node to read (repeat the option for several)", HelpName = "NODEID", Required = true, AllowMultipleArgumentsPerToken = false };
         Option<bool> json = CommonOptions.Json();
-        var command = new Command("read", "Reads current values with their status and timestamps.") { endpoint, nodes, user, json };
+        Option<TimeSpan> connectTimeout = ConnectTimeout();
+        var command = new Command("read", "Reads current values with their status and timestamps.") { endpoint, nodes, user, json, connectTimeout };
         command.SetAction(parsed => Run(context, () => UaReadHandler.Run(context,
-            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)),
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
             parsed.GetValue(nodes)!, parsed.GetValue(json))));
         return command;
     }
@@ -58,12 +63,13 @@ internal static class UaCommands
         Option<string> endpoint = Endpoint();
         Option<string?> user = User();
         Option<string[]> nodes = new("--node") { Description = "Node to watch (repeat the option for several)", HelpName = "NODEID", Required = true };
-        Option<TimeSpan> sampling = new("--sampling") { Description = "Sampling and publishing interval (default 00:00:01)", HelpName = "TIMESPAN", DefaultValueFactory = _ => TimeSpan.FromSeconds(1) };
-        Option<TimeSpan?> duration = new("--for") { Description = "Stop cleanly after this long (default: until Ctrl+C)", HelpName = "TIMESPAN" };
+        Option<TimeSpan> sampling = CommonOptions.Duration("--sampling", "Sampling and publishing interval, e.g. 500ms, 1s or 00:00:01 (default 1s)", TimeSpan.FromSeconds(1));
+        Option<TimeSpan?> duration = CommonOptions.OptionalDuration("--for", "Stop cleanly after this long, e.g. 30s, 15m, 2h or 01:30:00 (default: until Ctrl+C)");
         Option<bool> json = CommonOptions.Json();
-        var command = new Command("watch", "Subscribes and prints each data change, reconnecting by itself if the server goes away.") { endpoint, nodes, sampling, duration, user, json };
+        Option<TimeSpan> connectTimeout = ConnectTimeout();
+        var command = new Command("watch", "Subscribes and prints each data change, reconnecting by itself if the server goes away.") { endpoint, nodes, sampling, duration, user, json, connectTimeout };
         command.SetAction(parsed => Run(context, () => UaWatchHandler.Run(context,
-            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)),
+            UaSession.Settings(parsed.GetValue(endpoint)!, parsed.GetValue(user)) with { ConnectDeadline = parsed.GetValue(connectTimeout) },
             parsed.GetValue(nodes)!, parsed.GetValue(sampling), parsed.GetValue(duration), parsed.GetValue(json))));
         return command;
     }
@@ -77,13 +83,13 @@ internal static class UaCommands
         }
         catch (UaCliException e)
         {
-            context.Error.WriteLine(e.ExitCode == ExitCodes.BadInput ? $"error: {e.Message}" : $"failed: {e.Message}");
+            context.ReportFailure(e.ExitCode == ExitCodes.BadInput ? "error" : "failed", e.Message, e.ExitCode);
             return e.ExitCode;
         }
         catch (ServiceResultException e)
         {
             // The server answered but refused the request (unknown node, access denied...).
-            context.Error.WriteLine($"failed: {e.Message} ({e.Status})");
+            context.ReportFailure("failed", $"{e.Message} ({e.Status})", ExitCodes.RuntimeFailure);
             return ExitCodes.RuntimeFailure;
         }
     });

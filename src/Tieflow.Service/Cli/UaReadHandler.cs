@@ -50,6 +50,13 @@ internal static class UaReadHandler
                 UaJson.Time(values[i].ServerTimestamp) ?? "-");
         }
         context.Console.Write(table);
+        var unreadable = values.Select((v, i) => (Text: texts[i], v.Status)).Where(v => v.Status.IsBad).ToList();
+        if (unreadable.Count > 0)
+        {
+            // One summary on standard error, so that a long list of nodes does not hide the few that failed.
+            context.Error.WriteLine($"{unreadable.Count} of {values.Count} node(s) could not be read: " +
+                string.Join("; ", unreadable.Select(u => $"{u.Text} ({UaJson.Status(u.Status)})")));
+        }
         return ExitCodes.Success;
     }
 }

@@ -9,10 +9,11 @@ internal static class UaSession
     /// <summary>Environment variable holding the password for <c>--user</c> (never taken from the command line).</summary>
     public const string PasswordVariable = "TIEFLOW_OPCUA_PASSWORD";
 
-    private const int ConnectAttempts = 3;
-
-    /// <summary>Validated endpoint options.</summary>
-    public sealed record SessionSettings(Uri Endpoint, UaUserIdentity Identity);
+    /// <summary>Validated endpoint options; <see cref="ConnectDeadline"/> bounds the whole connect, retries included.</summary>
+    public sealed record SessionSettings(Uri Endpoint, UaUserIdentity Identity)
+    {
+        public TimeSpan ConnectDeadline { get; init; } = DefaultConnectDeadline;
+    }
 
     public static SessionSettings Settings(string endpoint, string? user)
     {
@@ -49,42 +50,122 @@ internal static class UaSession
         }
     }
 
-    /// <summary>Connects, retrying with a short backoff; after the last attempt the server counts as unreachable (exit 3).</summary>
+    /// <summary>Default of the one overall deadline for connecting (<c>--connect-timeout</c>).</summary>
+    public static readonly TimeSpan DefaultConnectDeadline = TimeSpan.FromSeconds(10);
+
+    /// <summary>
+    /// Connects within one overall deadline (<see cref="SessionSettings.ConnectDeadline"/>): each attempt may use what
+    /// is left of it, and only failures that may go away by themselves (connection refused or reset, server busy) are
+    /// retried, with a short backoff. A peer that does not answer ends the command at the deadline with the step it
+    /// did not answer; after that the server counts as unreachable (exit 3).
+    /// </summary>
     public static async Task<UaClient> ConnectAsync(SessionSettings settings, CancellationToken cancellationToken)
     {
-        var delay = TimeSpan.FromMilliseconds(500);
+        var deadline = settings.ConnectDeadline;
+        if (deadline < TimeSpan.FromMilliseconds(100) || deadline > TimeSpan.FromHours(1))
+        {
+            throw new UaCliException(ExitCodes.BadInput, $"--connect-timeout {DurationText(deadline)} is out of range; expected 100ms to 1h");
+        }
+        using var overall = CancellationTokenSource.CreateLinkedTokenSource(cancellationToken);
+        // Each step may take what is left of the deadline, so that a silent peer is reported by the step it did not
+        // answer; the overall cancellation, a little later, bounds a peer that answers every step slowly.
+        overall.CancelAfter(deadline + TimeSpan.FromSeconds(1));
+        var started = System.Diagnostics.Stopwatch.StartNew();
+        var delay = TimeSpan.FromMilliseconds(250);
         for (var attempt = 1; ; attempt++)
         {
+            var left = deadline - started.Elapsed - TimeSpan.FromMilliseconds(100);
+            if (left < TimeSpan.FromMilliseconds(50))
+            {
+                left = TimeSpan.FromMilliseconds(50);
+            }
             var client = new UaClient(new UaClientOptions
             {
                 EndpointUrl = settings.Endpoint,
                 Identity = settings.Identity,
                 ApplicationUri = "urn:tieflow:cli",
                 SessionName = "tieflow ua",
-                ConnectTimeout = TimeSpan.FromSeconds(5),
-                RequestTimeout = TimeSpan.FromSeconds(10),
+                ConnectTimeout = left,
+                RequestTimeout = Min(left, TimeSpan.FromSeconds(10)),
             });
+            Exception failure;
             try
             {
-                await client.ConnectAsync(cancellationToken).ConfigureAwait(false);
+                await client.ConnectAsync(overall.Token).ConfigureAwait(false);
                 return client;
             }
-            catch (Exception e) when (e is ServiceResultException or IOException or System.Net.Sockets.SocketException or TimeoutException)
+            catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
             {
                 await client.DisposeAsync().ConfigureAwait(false);
-                if (e is ServiceResultException { Status: var status } && IsRefusal(status))
-                {
-                    // The server is there and said no: retrying cannot help.
-                    throw new UaCliException(ExitCodes.RuntimeFailure, $"{settings.Endpoint} refused the session: {e.Message}");
-                }
-                if (attempt == ConnectAttempts)
-                {
-                    throw new UaCliException(ExitCodes.RuntimeFailure, $"{settings.Endpoint} is unreachable after {ConnectAttempts} attempts: {e.Message}");
-                }
+                throw;
             }
-            await Task.Delay(delay, cancellationToken).ConfigureAwait(false);
+            catch (Exception e) when (e is ServiceResultException or IOException or System.Net.Sockets.SocketException or TimeoutException or OperationCanceledException)
+            {
+                await client.DisposeAsync().ConfigureAwait(false);
+                failure = e;
+            }
+
+            if (failure is ServiceResultException { Status: var status } && IsRefusal(status))
+            {
+                // The server is there and said no: retrying cannot help.
+                throw new UaCliException(ExitCodes.RuntimeFailure, $"{settings.Endpoint} refused the session: {failure.Message}");
+            }
+            var transient = MayGoAway(failure);
+            if (!transient && failure is not OperationCanceledException && !IsTimeout(failure))
+            {
+                throw new UaCliException(ExitCodes.RuntimeFailure, $"{settings.Endpoint}: {Describe(failure)} (not retried: this will not go away by itself)");
+            }
+            if (!transient || started.Elapsed + delay >= deadline)
+            {
+                throw new UaCliException(ExitCodes.RuntimeFailure, transient
+                    ? $"{settings.Endpoint} is unreachable within {DurationText(deadline)} (--connect-timeout) after {attempt} attempt(s): {Describe(failure)}"
+                    : $"{settings.Endpoint} did not complete the connection within {DurationText(deadline)} (--connect-timeout): {Describe(failure)}");
+            }
+            try
+            {
+                await Task.Delay(delay, overall.Token).ConfigureAwait(false);
+            }
+            catch (OperationCanceledException) when (!cancellationToken.IsCancellationRequested)
+            {
+                throw new UaCliException(ExitCodes.RuntimeFailure, $"{settings.Endpoint} is unreachable within {DurationText(deadline)} (--connect-timeout) after {attempt} attempt(s): {Describe(failure)}");
+            }
             delay *= 2;
         }
+    }
+
+    private static TimeSpan Min(TimeSpan a, TimeSpan b) => a < b ? a : b;
+
+    private static bool IsTimeout(Exception e) => e is TimeoutException ||
+        e is ServiceResultException { Status: var s } && (s.Is(StatusCodes.BadTimeout) || s.Is(StatusCodes.BadRequestTimeout));
+
+    private static string DurationText(TimeSpan t) => Tieflow.Files.DurationText.Format(t);
+
+    /// <summary>Connection refused or reset, a busy or halting server: worth another attempt while the deadline allows.</summary>
+    private static bool MayGoAway(Exception e) => e switch
+    {
+        ServiceResultException { Status: var s } => s.Is(StatusCodes.BadNotConnected) || s.Is(StatusCodes.BadTcpServerTooBusy) ||
+            s.Is(StatusCodes.BadServerHalted),
+        IOException or System.Net.Sockets.SocketException => true,
+        _ => false,
+    };
+
+    /// <summary>What failed, naming the step the peer did not answer when it was silent.</summary>
+    private static string Describe(Exception e)
+    {
+        var message = e.Message;
+        if (e is OperationCanceledException)
+        {
+            return "no answer before the deadline";
+        }
+        if (message.Contains("took longer than", StringComparison.Ordinal))
+        {
+            return $"the peer did not complete the TCP connection or did not answer Hello with Acknowledge ({message})";
+        }
+        if (message.Contains("got no response", StringComparison.Ordinal))
+        {
+            return $"the peer did not answer a step of the connection: {message}";
+        }
+        return message;
     }
 
     private static bool IsRefusal(StatusCode status) =>

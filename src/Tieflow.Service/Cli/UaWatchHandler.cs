@@ -61,7 +61,11 @@ internal static class UaWatchHandler
             {
                 lock (context.Error)
                 {
-                    context.Error.WriteLine($"connection: {e.State} at {UaJson.Time(e.Time)}: {e.Message}");
+                    // After --for or Ctrl+C the client closes the session: that is the planned end, not a loss.
+                    if (!stop.IsCancellationRequested)
+                    {
+                        context.Error.WriteLine($"connection: {e.State} at {UaJson.Time(e.Time)}: {e.Message}");
+                    }
                 }
             };
             var monitored = nodes.Select((n, i) => new MonitoredNode { Node = n, Key = texts[i], SamplingInterval = sampling, QueueSize = 10 }).ToList();
@@ -106,6 +110,10 @@ internal static class UaWatchHandler
                 catch (OperationCanceledException) when (stop.IsCancellationRequested)
                 {
                     // --for elapsed or Ctrl+C: a clean end.
+                }
+                lock (context.Error)
+                {
+                    context.Error.WriteLine("watch ended as asked; closing the session.");
                 }
             }
         }

@@ -5,10 +5,11 @@ using Tieflow.Core.Chemistry;
 
 namespace Tieflow.Service.Output;
 
-/// <summary>Cascade results as JSON (CONTRACTS.md) and as a readable stage table.</summary>
+/// <summary>Cascade results as JSON (docs/file-formats.md) and as a readable stage table.</summary>
 internal static class CascadeOutput
 {
-    public static void WriteJson(Utf8JsonWriter w, CascadeResult result, TernarySystem system)
+    /// <summary>Writes the cascade object; <paramref name="notice"/> adds the advisory notice when it is the whole document.</summary>
+    public static void WriteJson(Utf8JsonWriter w, CascadeResult result, TernarySystem system, bool notice = false)
     {
         w.WriteStartObject();
         w.WriteStartArray("stages");
@@ -18,17 +19,22 @@ internal static class CascadeOutput
             w.WriteNumber("stage", stage.Stage);
             JsonOutput.WriteStream(w, "raffinate", stage.Raffinate, system);
             JsonOutput.WriteStream(w, "extract", stage.Extract, system);
-            w.WriteNumber("efficiency", stage.Efficiency);
+            JsonOutput.WriteNumber(w, "efficiency", stage.Efficiency);
             w.WriteEndObject();
         }
 
         w.WriteEndArray();
         JsonOutput.WriteStream(w, "raffinate", result.Raffinate, system);
         JsonOutput.WriteStream(w, "extract", result.Extract, system);
-        w.WriteNumber("recovery", JsonOutput.Round(result.Recovery));
+        JsonOutput.WriteNumber(w, "recovery", result.Recovery);
         w.WriteString("arrangement", result.Arrangement == CascadeArrangement.Crosscurrent ? "crosscurrent" : "countercurrent");
         w.WriteNumber("iterations", result.Iterations);
-        w.WriteNumber("balanceResidual", result.BalanceResidual);
+        JsonOutput.WriteNumber(w, "balanceResidual", result.BalanceResidual);
+        if (notice)
+        {
+            JsonOutput.WriteNotice(w);
+        }
+
         w.WriteEndObject();
     }
 

@@ -4,7 +4,7 @@ using Tieflow.Core.Chemistry;
 
 namespace Tieflow.Service.Output;
 
-/// <summary>Writes results as indented JSON in the shapes of CONTRACTS.md.</summary>
+/// <summary>Writes results as indented JSON in the shapes of docs/file-formats.md.</summary>
 internal static class JsonOutput
 {
     private static readonly JsonWriterOptions Options = new() { Indented = true };
@@ -21,6 +21,19 @@ internal static class JsonOutput
         output.WriteLine(Encoding.UTF8.GetString(buffer.ToArray()));
     }
 
+    /// <summary>Writes a number rounded by <see cref="Round"/>, or null when it is not finite: NaN and infinity never reach an output.</summary>
+    public static void WriteNumber(Utf8JsonWriter w, string name, double value)
+    {
+        if (double.IsFinite(value))
+        {
+            w.WriteNumber(name, Round(value));
+        }
+        else
+        {
+            w.WriteNull(name);
+        }
+    }
+
     public static void WriteNotice(Utf8JsonWriter w) => w.WriteString("notice", Notices.Advisory);
 
     public static void WriteStream(Utf8JsonWriter w, string name, MaterialStream stream, TernarySystem system)
@@ -32,7 +45,7 @@ internal static class JsonOutput
     public static void WriteStream(Utf8JsonWriter w, MaterialStream stream, TernarySystem system)
     {
         w.WriteStartObject();
-        w.WriteNumber("flow", Round(stream.Flow));
+        WriteNumber(w, "flow", stream.Flow);
         WriteComposition(w, "composition", stream.Composition, system);
         w.WriteEndObject();
     }
@@ -42,7 +55,7 @@ internal static class JsonOutput
         w.WriteStartObject(name);
         for (int i = 0; i < 3; i++)
         {
-            w.WriteNumber(system.Components[i].Id, Round(fractions[i]));
+            WriteNumber(w, system.Components[i].Id, fractions[i]);
         }
 
         w.WriteEndObject();

@@ -13,19 +13,19 @@ internal static class TextOutput
     /// <summary>A stream table with a stage-efficiency column (blank where a row has none).</summary>
     public static Table StreamTable(TernarySystem system, IEnumerable<(string Name, string? Efficiency, MaterialStream Stream)> rows, bool withEfficiency = true)
     {
-        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
-        string fraction = system.Basis == CompositionBasis.Mass ? "w" : "x";
+        string unit = FlowUnit(system);
+        string fraction = system.Basis == CompositionBasis.Mass ? "mass fr." : "mole fr.";
         var table = new Table().Border(TableBorder.Simple);
-        table.AddColumn("stream");
+        table.AddColumn(Column("stream", right: false));
         if (withEfficiency)
         {
-            table.AddColumn(new TableColumn("E").RightAligned());
+            table.AddColumn(Column("E Murphree", right: true));
         }
 
-        table.AddColumn(new TableColumn($"flow {unit}").RightAligned());
+        table.AddColumn(Column($"flow {unit}", right: true));
         foreach (Component c in system.Components)
         {
-            table.AddColumn(new TableColumn($"{fraction} {c.Id}").RightAligned());
+            table.AddColumn(Column($"{fraction} {c.Id}", right: true));
         }
 
         foreach (var (name, efficiency, s) in rows)
@@ -37,7 +37,15 @@ internal static class TextOutput
         return table;
     }
 
-    public static string Num(double v, string format) => v.ToString(format, CultureInfo.InvariantCulture);
+    /// <summary>The flow unit of a system's basis.</summary>
+    public static string FlowUnit(TernarySystem system) => system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+
+    /// <summary>A column whose header is plain text (ids are never read as console markup).</summary>
+    public static TableColumn Column(string header, bool right) =>
+        right ? new TableColumn(new Text(header)).RightAligned() : new TableColumn(new Text(header));
+
+    /// <summary>A number in a fixed format, or "not defined" when it is not finite.</summary>
+    public static string Num(double v, string format) => double.IsFinite(v) ? v.ToString(format, CultureInfo.InvariantCulture) : "not defined";
 
     public static void WriteNotice(IAnsiConsole console) => console.WriteLine(Notices.Advisory);
 }

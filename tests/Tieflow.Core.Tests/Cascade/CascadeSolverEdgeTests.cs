@@ -117,7 +117,7 @@ public sealed class CascadeSolverEdgeTests
     [Fact]
     public void SolveCountercurrent_TooMuchSolventOnNrtl_ThrowsSayingLowerTheSolvent()
     {
-        // At 343 K ethyl acetate takes up about a third of its amount of water (reference flash, README section 3).
+        // At 343 K ethyl acetate takes up about a third of its amount of water (reference flash, docs/reference-data.md §3).
         var ex = Assert.Throws<CascadeException>(() => new CascadeSolver(Model("nrtl"), 343).SolveCountercurrent(new MaterialStream(100, new Ternary(0.04, 0.96, 0)), new MaterialStream(400, new Ternary(0, 0, 1)), 3, 1.0));
         Assert.Contains("Lower the solvent flow", ex.Message, StringComparison.Ordinal);
     }

@@ -11,7 +11,7 @@ namespace Tieflow.Core.Tests.Cascade;
 /// Table A.3-24): 200 kg/h of 30 wt% acid in water, 600 kg/h of pure ether, final raffinate 4 wt% acid. Published
 /// graphical answer (Geankoplis-type worked example): mixing point x_A = 0.075, about 3.7 ideal stages, extract about
 /// 8 wt% acid. A stage-by-stage computation with piecewise-linear interpolation between tie lines gives 3.66 stages,
-/// extract 672.3 kg/h with 8.16% acid, raffinate 127.7 kg/h (reference README section 2, computed); other
+/// extract 672.3 kg/h with 8.16% acid, raffinate 127.7 kg/h (docs/reference-data.md §2, computed); other
 /// interpolation schemes move the stage count by 0.1 to 0.3.
 /// </summary>
 public sealed class IsopropylEtherExampleTests
@@ -42,7 +42,7 @@ public sealed class IsopropylEtherExampleTests
         Assert.InRange(result.Cascade.Extract.Composition.Solute, 0.08 - 0.01, 0.08 + 0.01);
 
         // The stage count of the balance at the target itself, against the 3.66 of piecewise-linear interpolation
-        // (README section 2: other interpolation schemes move it by 0.1 to 0.3).
+        // (docs/reference-data.md §2: other interpolation schemes move it by 0.1 to 0.3).
         Assert.InRange(design.CountStages(Feed, Ether.Composition, 600, 0.04, [1.0]), 3.66 - 0.3, 3.66 + 0.3);
     }
 

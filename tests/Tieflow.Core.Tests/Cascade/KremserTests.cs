@@ -35,7 +35,7 @@ public sealed class KremserTests
     [Fact]
     public void SolveCountercurrent_PrintedCheck_GivesXn0012168()
     {
-        // Reference README section 5 (computed check): F' 1000, S' 750, m 1.5, X_F 0.10, pure solvent, N 5: X_N = 0.012168.
+        // docs/reference-data.md §5 (computed check): F' 1000, S' 750, m 1.5, X_F 0.10, pure solvent, N 5: X_N = 0.012168.
         var solver = new CascadeSolver(TestSystems.ConstantK(1.5), TestSystems.Temperature);
         CascadeResult result = solver.SolveCountercurrent(TestSystems.CarrierFeed(1000, 0.10), TestSystems.SolventStream(750), 5, 1.0);
         Assert.Equal(0.012168, TestSystems.RaffinateRatio(result.Raffinate), 6);
@@ -44,7 +44,7 @@ public sealed class KremserTests
     [Fact]
     public void SolveCountercurrent_PrintedCheckExtractionFactorOne_GivesXn0025()
     {
-        // Reference README section 5 (computed check): F' = S' = 1000, m 1, N 3: X_N = 0.025.
+        // docs/reference-data.md §5 (computed check): F' = S' = 1000, m 1, N 3: X_N = 0.025.
         var solver = new CascadeSolver(TestSystems.ConstantK(1.0), TestSystems.Temperature);
         CascadeResult result = solver.SolveCountercurrent(TestSystems.CarrierFeed(1000, 0.10), TestSystems.SolventStream(1000), 3, 1.0);
         Assert.True(Math.Abs(TestSystems.RaffinateRatio(result.Raffinate) - 0.025) <= 1e-6 * 0.025);

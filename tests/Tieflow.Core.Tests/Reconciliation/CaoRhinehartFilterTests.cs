@@ -4,7 +4,7 @@ namespace Tieflow.Core.Tests.Reconciliation;
 
 public sealed class CaoRhinehartFilterTests
 {
-    // Deterministic check of shared/reference/README.md section 6 (Cao and Rhinehart, J. Process Control 5(6), 363, 1995,
+    // Deterministic check of docs/reference-data.md §6 (Cao and Rhinehart, J. Process Control 5(6), 363, 1995,
     // filter equations; the R values are the computed figures of that section), factors 0.2, 0.1, 0.1.
     [Fact]
     public void Add_ReferenceSequence_GivesReferenceR()
@@ -20,7 +20,7 @@ public sealed class CaoRhinehartFilterTests
         }
     }
 
-    // Null-distribution percentiles of R for white noise (shared/reference/README.md section 6, Monte Carlo, plus or
+    // Null-distribution percentiles of R for white noise (docs/reference-data.md §6, Monte Carlo, plus or
     // minus 0.01): P95 1.439 for 0.2/0.1/0.1 and 1.317 for 0.1/0.05/0.05. Seeded, 200,000 samples after warm-up.
     [Theory]
     [InlineData(0.2, 0.1, 0.1, 1.439)]

@@ -10,7 +10,7 @@ public sealed class DataReconcilerTests(ITestOutputHelper output)
     [Fact]
     public void Reconcile_HeatExchangerVariant_NamesStreamTwoAsTheOnlySuspect()
     {
-        // Constructed variant of Narasimhan and Jordache's heat exchanger with bypass (shared/reference/README.md
+        // Constructed variant of Narasimhan and Jordache's heat exchanger with bypass (docs/reference-data.md
         // section 4): +5 on stream 2 makes stream 2 the suspect.
         double[] readings = [.. TestNetworks.HeatExchangerReadings];
         readings[1] += 5;

@@ -33,7 +33,7 @@ public sealed class GrossErrorTestsTests
 
     [Theory]
     [InlineData(1, 0.05, 1.960)] // standard normal table, two-sided 5 % (common statistics tables)
-    [InlineData(6, 0.05, 2.631)] // Sidak-corrected value for six tests, shared/reference/README.md section 4
+    [InlineData(6, 0.05, 2.631)] // Sidak-corrected value for six tests, docs/reference-data.md §4
     public void SidakCritical_KnownValues(int tests, double significance, double expected)
     {
         Assert.True(Math.Abs(GrossErrorTests.SidakCritical(tests, significance) - expected) < 1e-3);

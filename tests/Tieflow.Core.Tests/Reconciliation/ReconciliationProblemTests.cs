@@ -6,7 +6,7 @@ public sealed class ReconciliationProblemTests
 {
     // Expected values: Narasimhan and Jordache, "Data Reconciliation and Gross Error Detection" (Gulf, 2000),
     // heat exchanger with bypass, as transcribed with computed reconciled values and normalised adjustments in
-    // shared/reference/README.md section 4.
+    // docs/reference-data.md §4.
     [Fact]
     public void Reconcile_HeatExchangerWithBypass_MatchesReference()
     {
@@ -37,7 +37,7 @@ public sealed class ReconciliationProblemTests
         Assert.True(result.BalanceResidual < 1e-12);
     }
 
-    // Constructed variant of the same reference (README section 4): +5 on stream 2.
+    // Constructed variant of the same reference (docs/reference-data.md §4): +5 on stream 2.
     [Fact]
     public void Reconcile_HeatExchangerVariant_MatchesReferenceTests()
     {

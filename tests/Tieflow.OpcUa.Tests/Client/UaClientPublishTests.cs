@@ -5,7 +5,7 @@ using Tieflow.OpcUa.Tests.Fakes;
 
 namespace Tieflow.OpcUa.Tests.Client;
 
-/// <summary>The publish loop against a scripted peer: acknowledgements, sequence gaps, Republish and the watchdog (digest §1.11).</summary>
+/// <summary>The publish loop against a scripted peer: acknowledgements, sequence gaps, Republish and the watchdog (docs/opcua.md §1.11).</summary>
 public sealed class UaClientPublishTests
 {
     private static readonly TimeSpan Wait = TimeSpan.FromSeconds(10);
@@ -150,7 +150,7 @@ public sealed class UaClientPublishTests
         var gap = await NextAsync<UaDataGap>(subscription);
         Assert.Contains("recreated", gap.Reason, StringComparison.Ordinal);
 
-        // OPC 10000-4 §6.7 (digest §1.13): reactivate, else new session + TransferSubscriptions, else recreate.
+        // OPC 10000-4 §6.7 (docs/opcua.md §1.13): reactivate, else new session + TransferSubscriptions, else recreate.
         var after = peer.Server.Received.SkipWhile(r => r != first).Skip(1).Where(r => r is not PublishRequest and not OpenSecureChannelRequest)
             .Select(r => r.GetType().Name.Replace("Request", string.Empty, StringComparison.Ordinal)).ToArray();
         Assert.Equal(["GetEndpoints", "ActivateSession", "CreateSession", "ActivateSession", "Read", "TransferSubscriptions", "CreateSubscription", "CreateMonitoredItems"], after);

@@ -105,11 +105,11 @@ public sealed class UaClientTests : IAsyncLifetime
         ]);
         var items = subscription.Items.ToDictionary(i => i.Key);
         Assert.True(items["level-pct"].Status.IsGood);
-        Assert.Equal(StatusCodes.BadMonitoredItemFilterUnsupported, items["flow-pct"].Status); // no EURange (digest §1.10)
+        Assert.Equal(StatusCodes.BadMonitoredItemFilterUnsupported, items["flow-pct"].Status); // no EURange (docs/opcua.md §1.10)
         Assert.True(items["flow-abs"].Status.IsGood);
         Assert.Equal(StatusCodes.BadNodeIdUnknown, items["nope"].Status);
 
-        // Absolute deadband 0.5 (digest §1.10): 1.0 → 1.3 is not reported, 1.0 → 1.6 is.
+        // Absolute deadband 0.5 (docs/opcua.md §1.10): 1.0 → 1.3 is not reported, 1.0 → 1.6 is.
         await NextDataAsync(subscription);
         var t = new DateTime(2030, 1, 1, 0, 0, 0, DateTimeKind.Utc);
         _server.UpdateValue(_flow, Variant.From(1.3), StatusCodes.Good, t);
@@ -220,7 +220,7 @@ public sealed class UaClientTests : IAsyncLifetime
     public async Task Reconnect_ChangeWhileLinkDown_DeliveredAfterReactivationWithCompleteGap()
     {
         // The session survives on the server: what it published meanwhile comes through (kept for the new Publish
-        // requests, or republished from its retransmission queue), so nothing is lost (digest §1.13 step 5); the
+        // requests, or republished from its retransmission queue), so nothing is lost (docs/opcua.md §1.13 step 5); the
         // interval is still reported, marked complete, so that a store knows the plant was not observed live.
         await using var proxy = new TcpProxy(_server.Port);
         await using var client = new UaClient(Options() with { EndpointUrl = new Uri($"opc.tcp://127.0.0.1:{proxy.Port}/sim") });

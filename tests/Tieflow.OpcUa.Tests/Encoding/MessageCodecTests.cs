@@ -46,7 +46,7 @@ public sealed class MessageCodecTests
     [Fact]
     public void Encode_RequestHeaderDefault_MatchesDigestLayout()
     {
-        // Digest §1.4: null token, timestamp, handle, diagnostics, audit id, timeout hint, empty additional header (00 00 00).
+        // docs/opcua.md §1.4: null token, timestamp, handle, diagnostics, audit id, timeout hint, empty additional header (00 00 00).
         var header = new RequestHeader { RequestHandle = 7, TimeoutHint = 10000 };
         var writer = new UaBinaryWriter();
         header.Encode(writer);
@@ -100,7 +100,7 @@ public sealed class MessageCodecTests
     }
 
     [Theory]
-    [InlineData(673u)] // WriteRequest (digest §1.5)
+    [InlineData(673u)] // WriteRequest (docs/opcua.md §1.5)
     [InlineData(712u)] // CallRequest (OPC 10000-4 §5.11.2; id from memory)
     public void Assembly_HasNoWriteOrCallRequestType(uint forbiddenId)
     {
@@ -119,7 +119,7 @@ public sealed class MessageCodecTests
     [Fact]
     public void EncodingIds_DigestTable_Match()
     {
-        // Digest §1.5 (ids marked there as exchanged on the wire with node-opcua, or from node-opcua-constants).
+        // docs/opcua.md §1.5 (ids marked there as exchanged on the wire with node-opcua, or from node-opcua-constants).
         var expected = new Dictionary<Type, uint>
         {
             [typeof(OpenSecureChannelRequest)] = 446, [typeof(OpenSecureChannelResponse)] = 449, [typeof(CloseSecureChannelRequest)] = 452,

@@ -67,7 +67,7 @@ public sealed class NodeIdTests
     [Fact]
     public void ReadNodeId_OpaqueAuthenticationToken_KeepsItsForm()
     {
-        // Digest §1.7: an opaque token must be echoed as opaque, not re-encoded as a string.
+        // docs/opcua.md §1.7: an opaque token must be echoed as opaque, not re-encoded as a string.
         var token = new NodeId(Enumerable.Range(0, 16).Select(i => (byte)i).ToArray(), 0);
         var writer = new UaBinaryWriter();
         writer.WriteNodeId(token);

@@ -4,7 +4,7 @@ namespace Tieflow.OpcUa.Tests.Encoding;
 
 public sealed class StatusCodeTests
 {
-    // Values from the project's OPC UA digest §1.15, which matches the OPC Foundation's StatusCode.csv.
+    // Values from docs/opcua.md §1.15, which matches the OPC Foundation's StatusCode.csv.
     [Theory]
     [InlineData("Good", 0x00000000u)]
     [InlineData("GoodSubscriptionTransferred", 0x002D0000u)]
@@ -47,7 +47,7 @@ public sealed class StatusCodeTests
     [Fact]
     public void Is_FlagBitsIgnored()
     {
-        // Digest §2.4: overflow sets InfoType DataValue plus the Overflow bit (| 0x480).
+        // docs/opcua.md §2.4: overflow sets InfoType DataValue plus the Overflow bit (| 0x480).
         var withOverflow = new StatusCode(StatusCodes.Good.Code | 0x480);
         Assert.True(withOverflow.Is(StatusCodes.Good));
         Assert.NotEqual(StatusCodes.Good, withOverflow);

@@ -111,7 +111,7 @@ public sealed class UaBinaryReaderTests
         writer.WriteDataValue(dv);
         var bytes = writer.ToArray();
 
-        // Mask 0x3F, then Value (1 + 8), Status (4), SourceTs (8), SourcePico (2), ServerTs (8), ServerPico (2): digest §1.4.
+        // Mask 0x3F, then Value (1 + 8), Status (4), SourceTs (8), SourcePico (2), ServerTs (8), ServerPico (2): docs/opcua.md §1.4.
         Assert.Equal(0x3F, bytes[0]);
         Assert.Equal(1 + 9 + 4 + 8 + 2 + 8 + 2, bytes.Length);
         Assert.Equal(1234, BitConverter.ToUInt16(bytes, 1 + 9 + 4 + 8));
@@ -159,7 +159,7 @@ public sealed class UaBinaryReaderTests
     [Fact]
     public void ReadDateTime_UnixMilliseconds_MatchDigestFormula()
     {
-        // Digest §1.4: ticks = (unixMs + 11644473600000) * 10000.
+        // docs/opcua.md §1.4: ticks = (unixMs + 11644473600000) * 10000.
         var t = new DateTime(2026, 3, 2, 8, 0, 0, DateTimeKind.Utc);
         var unixMs = (long)(t - DateTime.UnixEpoch).TotalMilliseconds;
         var writer = new UaBinaryWriter();
@@ -278,7 +278,7 @@ public sealed class UaBinaryReaderTests
     [Fact]
     public void ReadExtensionObject_DataChangeFilter_GoldenBytes()
     {
-        // Digest §1.10: DataChangeFilter (724) = trigger Int32 + deadbandType UInt32 + deadbandValue Double.
+        // docs/opcua.md §1.10: DataChangeFilter (724) = trigger Int32 + deadbandType UInt32 + deadbandValue Double.
         var filter = new DataChangeFilter { Trigger = DataChangeTrigger.StatusValue, DeadbandType = 1, DeadbandValue = 0.25 };
         var writer = new UaBinaryWriter();
         writer.WriteEncodeableAsExtensionObject(filter);

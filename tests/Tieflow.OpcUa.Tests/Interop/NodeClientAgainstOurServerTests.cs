@@ -7,6 +7,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// translate, subscribe and receive changing values, and multi-chunk responses with an 8192-byte buffer.
 /// </summary>
 [Collection(NodePeerCollection.Name)]
+[Trait("Category", "Interop")]
 public sealed class NodeClientAgainstOurServerTests(OurServerForProbe fixture) : IClassFixture<OurServerForProbe>
 {
     [Fact]

@@ -2,6 +2,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 
 /// <summary>The node-opcua peer itself: scripts start, answer commands and serve the documented address space.</summary>
 [Collection(NodePeerCollection.Name)]
+[Trait("Category", "Interop")]
 public sealed class NodePeerTests(PlantPeerFixture fixture) : IClassFixture<PlantPeerFixture>
 {
     [Fact]

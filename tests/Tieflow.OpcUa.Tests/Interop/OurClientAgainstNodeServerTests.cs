@@ -10,6 +10,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// source timestamps arriving unchanged, and multi-chunk responses with an 8192-byte buffer.
 /// </summary>
 [Collection(NodePeerCollection.Name)]
+[Trait("Category", "Interop")]
 public sealed class OurClientAgainstNodeServerTests(PlantPeerFixture fixture) : IClassFixture<PlantPeerFixture>
 {
     private const string Ns = "urn:example:plant-sim";
@@ -52,7 +53,7 @@ public sealed class OurClientAgainstNodeServerTests(PlantPeerFixture fixture) : 
     [Fact]
     public async Task Read_300NodesWith8192ByteBuffer_ReassemblesTheChunkedResponse()
     {
-        // With an 8192-byte receive buffer node-opcua answers a 300-node Read in several chunks (digest §1.3).
+        // With an 8192-byte receive buffer node-opcua answers a 300-node Read in several chunks (docs/opcua.md §1.3).
         await using var client = await ConnectAsync(new TransportLimits { ReceiveBufferSize = 8192, SendBufferSize = 8192 });
         var nodes = Enumerable.Range(0, 300).Select(i => client.Resolve(Node($"Plant.Tags.Tag{i:000}"))).ToList();
 
@@ -131,7 +132,7 @@ public sealed class OurClientAgainstNodeServerTests(PlantPeerFixture fixture) : 
             values.Add(v);
         }
 
-        // The ramp rises 0.1 per tick: with a 0.25 deadband every third value is reported (digest §1.10).
+        // The ramp rises 0.1 per tick: with a 0.25 deadband every third value is reported (docs/opcua.md §1.10).
         for (var i = 1; i < values.Count; i++)
         {
             Assert.Equal(0.3, values[i] - values[i - 1], 1e-9);
@@ -153,7 +154,7 @@ public sealed class OurClientAgainstNodeServerTests(PlantPeerFixture fixture) : 
 
         var items = subscription.Items.ToDictionary(i => i.Key);
         Assert.Equal(StatusCodes.Good, items["level"].Status);
-        // Error codes node-opcua gives (digest §1.10, verified there).
+        // Error codes node-opcua gives (docs/opcua.md §1.10, verified there).
         Assert.Equal(0x80440000u, items["flow-pct"].Status.CodeWithoutFlags);
         Assert.Equal(0x808E0000u, items["level-150"].Status.CodeWithoutFlags);
         Assert.Equal(0x80450000u, items["range-abs"].Status.CodeWithoutFlags);

@@ -12,6 +12,7 @@ namespace Tieflow.OpcUa.Tests.Interop;
 /// Each test runs its own peer.
 /// </summary>
 [Collection(NodePeerCollection.Name)]
+[Trait("Category", "Interop")]
 public sealed class ReconnectAgainstNodeServerTests(ITestOutputHelper output)
 {
     private const string Ns = "urn:example:plant-sim";

@@ -10,6 +10,7 @@ namespace Tieflow.OpcUa.Tests.Robustness;
 /// spliced bytes. The only exception allowed is <see cref="UaDecodingException"/>; each message must decode or be
 /// refused quickly and without allocating far beyond its own size.
 /// </summary>
+[Trait("Category", "Fuzz")]
 public sealed class DecoderFuzzTests
 {
     private const int Seed = 20260302;

@@ -7,7 +7,7 @@ namespace Tieflow.OpcUa.Tests.Server;
 /// <summary>
 /// The server's connection layer on the wire (it runs on the shared Transport types): request reassembly and its
 /// limits, the server's own chunk rules, the response size the client announced, and token expiry. Statuses follow
-/// OPC 10000-6 §6.7 / §7.1 and the project OPC UA digest §1.12 and §3.
+/// OPC 10000-6 §6.7 / §7.1 and docs/opcua.md §1.12 and §3.
 /// </summary>
 public sealed class ServerConnectionTests : IAsyncLifetime
 {
@@ -138,7 +138,7 @@ public sealed class ServerConnectionTests : IAsyncLifetime
         await client.HelloAsync(Url);
         await client.OpenAsync(lifetimeMs: 10_000);
 
-        // Digest §1.12: a token stays valid until 125 % of its lifetime, here 12.5 s.
+        // docs/opcua.md §1.12: a token stays valid until 125 % of its lifetime, here 12.5 s.
         await AdvanceAsync(TimeSpan.FromSeconds(12.3));
         await client.CallAsync<GetEndpointsResponse>(new GetEndpointsRequest { EndpointUrl = Url });
         await AdvanceAsync(TimeSpan.FromSeconds(0.5));

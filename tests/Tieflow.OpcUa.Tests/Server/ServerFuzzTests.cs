@@ -12,6 +12,7 @@ namespace Tieflow.OpcUa.Tests.Server;
 /// answer or close each connection within a second, refuse bad input only with the statuses its limits name (never
 /// the internal-error status that marks a defect), and still serve a normal session afterwards.
 /// </summary>
+[Trait("Category", "Fuzz")]
 public sealed class ServerFuzzTests
 {
     private const int Messages = 10_000;
@@ -42,6 +43,7 @@ public sealed class ServerFuzzTests
 
         var total = outcomes.Aggregate(new Outcome(), (a, b) => a.Add(b));
         Assert.Equal(Messages, total.Sent);
+        Assert.True(total.Retried < Messages / 100, $"{total.Retried} slow answers of {Messages}: the server is slow, not the machine");
         Assert.True(total.Hangs.Count == 0, $"no answer or close within {PerMessage}: {string.Join("; ", total.Hangs.Take(5))}");
         Assert.True(total.UnexpectedStatuses.Count == 0, $"unexpected ERR statuses: {string.Join("; ", total.UnexpectedStatuses.Take(5))}");
         Assert.True(total.Errors > Messages / 10, $"the mutations should be refused often; {total.Errors} ERR of {Messages}");
@@ -74,6 +76,13 @@ public sealed class ServerFuzzTests
             var mutated = Mutate(original, random, keepHeaderType: stage == 2 || random.Next(4) != 0);
             outcome.Sent++;
             var (status, elapsed, answered) = await SendOneAsync(port, url, stage, mutated);
+            if (answered && elapsed > PerMessage)
+            {
+                // The input is deterministic, so a real hang is slow every time; one slow answer under a loaded
+                // machine (other test projects run beside this one) is sent again before it counts.
+                outcome.Retried++;
+                (_, elapsed, answered) = await SendOneAsync(port, url, stage, mutated);
+            }
             if (elapsed > PerMessage || !answered)
             {
                 outcome.Hangs.Add($"message {i} (stage {stage}, {mutated.Length} bytes): {elapsed.TotalMilliseconds:F0} ms");
@@ -267,6 +276,9 @@ public sealed class ServerFuzzTests
 
         public int Errors { get; set; }
 
+        /// <summary>Messages sent a second time after one slow answer.</summary>
+        public int Retried { get; set; }
+
         public List<string> Hangs { get; } = [];
 
         public List<string> UnexpectedStatuses { get; } = [];
@@ -275,6 +287,7 @@ public sealed class ServerFuzzTests
         {
             Sent += other.Sent;
             Errors += other.Errors;
+            Retried += other.Retried;
             Hangs.AddRange(other.Hangs);
             UnexpectedStatuses.AddRange(other.UnexpectedStatuses);
             return this;

@@ -6,8 +6,8 @@ namespace Tieflow.OpcUa.Tests.Server;
 
 /// <summary>
 /// Our server on the wire, driven by <see cref="RawUaClient"/>: transport limits (OPC 10000-6 §7.1), the services
-/// of the digest's server table, and subscriptions on a fake clock (keep-alive and sequence-number rules of
-/// OPC 10000-4 §5.13.1, as observed on node-opcua in the digest §1.11).
+/// of the server table of docs/opcua.md §2.1, and subscriptions on a fake clock (keep-alive and sequence-number rules of
+/// OPC 10000-4 §5.13.1, as observed on node-opcua, docs/opcua.md §1.11).
 /// </summary>
 public sealed class UaServerTests : IAsyncLifetime
 {
@@ -54,7 +54,7 @@ public sealed class UaServerTests : IAsyncLifetime
     }
 
     [Theory]
-    [InlineData(1024u, 0x80AC0000u)] // Bad_ConnectionRejected, as node-opcua answers (digest §3).
+    [InlineData(1024u, 0x80AC0000u)] // Bad_ConnectionRejected, as node-opcua answers (docs/opcua.md §3).
     [InlineData(4096u, 0x80AC0000u)]
     public async Task Hello_BufferBelowMinimum_IsRefusedAndClosed(uint buffer, uint expected)
     {

@@ -161,7 +161,7 @@ public sealed class ClientSecureChannelTests
     [Fact]
     public void AllowedRequestIds_NoWriteCallOrOtherChangingService()
     {
-        // Write 673, Call 712 (digest §1.5; Call from memory); none of the other services that change a server either.
+        // Write 673, Call 712 (docs/opcua.md §1.5; Call from memory); none of the other services that change a server either.
         foreach (var forbidden in new uint[] { 673, 712 })
         {
             Assert.DoesNotContain(forbidden, ClientServices.AllowedRequestIds);

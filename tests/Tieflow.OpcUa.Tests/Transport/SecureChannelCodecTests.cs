@@ -36,7 +36,7 @@ public sealed class SecureChannelCodecTests
         ReceivedMessage? message = null;
         for (var i = 0; i < chunks.Count; i++)
         {
-            // Headers included, a chunk is at most the peer's receive buffer (digest §5, off-by-one pitfall).
+            // Headers included, a chunk is at most the peer's receive buffer (docs/opcua.md §5, off-by-one pitfall).
             Assert.True(chunks[i].Length <= 8192);
             Assert.Equal(i == chunks.Count - 1 ? (byte)'F' : (byte)'C', chunks[i][3]);
             Assert.Equal((uint)(i + 1), BinaryPrimitives.ReadUInt32LittleEndian(chunks[i].AsSpan(16)));
@@ -143,7 +143,7 @@ public sealed class SecureChannelCodecTests
     [Fact]
     public void EncodeChunks_OpnAsymmetricHeader_NullCertificates()
     {
-        // Digest §1.3: SecurityPolicyUri, then SenderCertificate and ReceiverCertificateThumbprint both null (-1) under None.
+        // docs/opcua.md §1.3: SecurityPolicyUri, then SenderCertificate and ReceiverCertificateThumbprint both null (-1) under None.
         var chunk = new SecureChannelCodec(TransportLimits.Default).EncodeChunks(TcpMessageType.OpenSecureChannel, 1, Body(4), StatusCodes.BadRequestTooLarge)[0];
         Assert.Equal("OPNF"u8.ToArray(), chunk[..4]);
         Assert.Equal(0u, BinaryPrimitives.ReadUInt32LittleEndian(chunk.AsSpan(8)));

@@ -8,7 +8,7 @@ public sealed class SecurityTokenSetTests
     [Fact]
     public void IsAccepted_PreviousToken_UntilItsLifetimePlus25Percent()
     {
-        // Digest §1.12: keep accepting the previous token until it has expired plus 25 % of its lifetime.
+        // docs/opcua.md §1.12: keep accepting the previous token until it has expired plus 25 % of its lifetime.
         var time = new FakeTimeProvider(new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero));
         var tokens = new SecurityTokenSet(time);
         tokens.Add(1, TimeSpan.FromSeconds(60));
@@ -26,7 +26,7 @@ public sealed class SecurityTokenSetTests
     [Fact]
     public void IsAccepted_TwoRenewals_BothOlderTokensKeptWhileValid()
     {
-        // Digest §1.12 hazard: a parked Publish may be answered with a token two renewals old.
+        // docs/opcua.md §1.12 hazard: a parked Publish may be answered with a token two renewals old.
         var time = new FakeTimeProvider(new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero));
         var tokens = new SecurityTokenSet(time);
         tokens.Add(1, TimeSpan.FromSeconds(100));
@@ -41,7 +41,7 @@ public sealed class SecurityTokenSetTests
     [Fact]
     public void IsCurrentExpired_NotRenewed_TrueOnlyAfterLifetimePlus25Percent()
     {
-        // Digest §1.12: a token lives until 125 % of its lifetime; the server closes a channel not renewed by then.
+        // docs/opcua.md §1.12: a token lives until 125 % of its lifetime; the server closes a channel not renewed by then.
         var time = new FakeTimeProvider(new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero));
         var tokens = new SecurityTokenSet(time);
         Assert.False(tokens.IsCurrentExpired());

@@ -8,7 +8,7 @@ public sealed class TcpMessagesTests
     [Fact]
     public void Encode_Hello_MatchesDigestGoldenBytes()
     {
-        // Digest §1.2 [verified against node-opcua]: Hello to opc.tcp://127.0.0.1:4841/sim, 64 KiB buffers, 0/0 limits.
+        // docs/opcua.md §1.2 [verified against node-opcua]: Hello to opc.tcp://127.0.0.1:4841/sim, 64 KiB buffers, 0/0 limits.
         var hello = new TcpHello(0, 65536, 65536, 0, 0, "opc.tcp://127.0.0.1:4841/sim");
         byte[] expected =
         [
@@ -21,7 +21,7 @@ public sealed class TcpMessagesTests
     [Fact]
     public void Decode_Acknowledge_DigestGoldenBytes()
     {
-        // Digest §1.2: node-opcua's answer (mms 16 MiB, mcc 256).
+        // docs/opcua.md §1.2: node-opcua's answer (mms 16 MiB, mcc 256).
         byte[] bytes = [0x41, 0x43, 0x4b, 0x46, 0x1c, 0, 0, 0, 0, 0, 0, 0, 0, 0, 1, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0, 1, 0, 0];
         var (type, chunk, size) = TcpFrameReader.ParseHeader(bytes, 4096);
         var ack = TcpAcknowledge.Decode(new TcpFrame(type, chunk, bytes, size));
@@ -39,7 +39,7 @@ public sealed class TcpMessagesTests
     }
 
     [Theory]
-    [InlineData(65536u, 65536u, 65536u, 65536u)] // digest §1.2 golden exchange: 64 KiB both ways
+    [InlineData(65536u, 65536u, 65536u, 65536u)] // docs/opcua.md §1.2 golden exchange: 64 KiB both ways
     [InlineData(8192u, 655360u, 65536u, 8192u)]  // the server may only lower sizes (OPC 10000-6 §7.1.2.4)
     [InlineData(655360u, 8192u, 8192u, 65536u)]
     public void Accept_Hello_BuffersAreTheSmallerOfPeerAndLocal(uint helloReceive, uint helloSend, uint ackReceive, uint ackSend)
@@ -57,7 +57,7 @@ public sealed class TcpMessagesTests
     [InlineData(65536u, 8191u)]
     public void Accept_BufferBelow8192_BadConnectionRejected(uint helloReceive, uint helloSend)
     {
-        // OPC 10000-6 §7.1.2.3: at least 8192 bytes; node-opcua answers Bad_ConnectionRejected (digest §3).
+        // OPC 10000-6 §7.1.2.3: at least 8192 bytes; node-opcua answers Bad_ConnectionRejected (docs/opcua.md §3).
         var hello = new TcpHello(0, helloReceive, helloSend, 0, 0, "opc.tcp://h/");
 
         var ex = Assert.Throws<UaDecodingException>(() => TcpAcknowledge.Accept(hello, TransportLimits.Default));

@@ -7,7 +7,7 @@ public sealed class ReconcileCommandTests
     private static string Sample(string name) => Path.Combine(RepositoryPaths.ConfigSamples, name);
 
     // Narasimhan and Jordache, "Data Reconciliation and Gross Error Detection" (Gulf, 2000), heat exchanger with
-    // bypass, reconciled values and tests as computed in shared/reference/README.md section 4.
+    // bypass, reconciled values and tests as computed in docs/reference-data.md §4.
     [Fact]
     public void Json_HeatExchangerSample_MatchesReference()
     {
@@ -47,7 +47,7 @@ public sealed class ReconcileCommandTests
     [Fact]
     public void Json_HeatExchangerVariant_NamesStreamTwo()
     {
-        // Constructed variant of the same reference (README section 4): +5 on stream 2.
+        // Constructed variant of the same reference (docs/reference-data.md §4): +5 on stream 2.
         using var folder = new TempFolder();
         string file = folder.Write("case.json", File.ReadAllText(Sample("hx-bypass-reconcile.case.json")).Replace("64.45", "69.45", StringComparison.Ordinal));
 

@@ -7,7 +7,7 @@ using Tieflow.OpcUa.Server;
 namespace Tieflow.Service.Tests.Cli;
 
 /// <summary>
-/// <c>tieflow ua browse|read|watch</c> (CONTRACTS.md) against our OPC UA server over loopback: JSON shapes, exit
+/// <c>tieflow ua browse|read|watch</c> (docs/commands.md) against our OPC UA server over loopback: JSON shapes, exit
 /// codes (2 bad usage, 3 unreachable), and the password of <c>--user</c> never printed.
 /// </summary>
 public sealed class UaCommandTests : IAsyncLifetime
@@ -163,12 +163,103 @@ public sealed class UaCommandTests : IAsyncLifetime
     }
 
     [Fact]
-    public void Read_NothingListening_ExitsThreeAfterRetries()
+    [Trait("Category", "Slow")]
+    public void Read_NothingListening_ExitsThreeAtTheDeadline()
     {
-        CliRun run = CliRun.Of("ua", "read", "--endpoint", $"opc.tcp://127.0.0.1:{ClosedPort()}/x", "--node", "i=85");
+        CliRun run = CliRun.Of("ua", "read", "--endpoint", $"opc.tcp://127.0.0.1:{ClosedPort()}/x", "--node", "i=85", "--connect-timeout", "1s");
 
         Assert.Equal(3, run.ExitCode);
-        Assert.Contains("unreachable after 3 attempts", run.Error, StringComparison.Ordinal);
+        Assert.Contains("unreachable within 1s", run.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    [Trait("Category", "Slow")]
+    public async Task Browse_PeerThatAcceptsAndNeverAnswers_EndsAtTheDeadlineNamingTheStep()
+    {
+        // Issue 12 §6: against such a peer the command took 17 to 32 s (three attempts, each its full timeout).
+        using var listener = new TcpListener(IPAddress.Loopback, 0);
+        listener.Start();
+        int port = ((IPEndPoint)listener.LocalEndpoint).Port;
+        var accepted = new List<TcpClient>();
+        var accepting = Task.Run(async () =>
+        {
+            try
+            {
+                while (true)
+                {
+                    accepted.Add(await listener.AcceptTcpClientAsync(_stop.Token));
+                }
+            }
+            catch (OperationCanceledException)
+            {
+            }
+        });
+
+        var clock = System.Diagnostics.Stopwatch.StartNew();
+        CliRun run = await Task.Run(() => CliRun.Of("ua", "browse", "--endpoint", $"opc.tcp://127.0.0.1:{port}/x", "--connect-timeout", "2s"));
+        clock.Stop();
+        await _stop.CancelAsync();
+        await accepting;
+        accepted.ForEach(c => c.Dispose());
+
+        Assert.Equal(3, run.ExitCode);
+        Assert.Contains("within 2s", run.Error, StringComparison.Ordinal);
+        Assert.Contains("Hello with Acknowledge", run.Error, StringComparison.Ordinal);
+
+        // Generous bound: one deadline, not several attempts of it.
+        Assert.True(clock.Elapsed < TimeSpan.FromSeconds(15), $"took {clock.Elapsed}");
+    }
+
+    [Fact]
+    [Trait("Category", "Slow")]
+    public async Task Browse_PeerThatAcknowledgesAndThenStaysSilent_NamesOpenSecureChannel()
+    {
+        using var listener = new TcpListener(IPAddress.Loopback, 0);
+        listener.Start();
+        int port = ((IPEndPoint)listener.LocalEndpoint).Port;
+        var peer = Task.Run(async () =>
+        {
+            using TcpClient client = await listener.AcceptTcpClientAsync(_stop.Token);
+            NetworkStream stream = client.GetStream();
+            _ = await stream.ReadAsync(new byte[4096], _stop.Token);
+
+            // Acknowledge (OPC 10000-6 §7.1.2.4): "ACKF", size 28, version 0, buffers 65536, no message or chunk limit.
+            byte[] ack = [.. "ACKF"u8, 28, 0, 0, 0, 0, 0, 0, 0, 0, 0, 1, 0, 0, 0, 1, 0, 0, 0, 0, 0, 0, 0, 0, 0];
+            await stream.WriteAsync(ack, _stop.Token);
+            try
+            {
+                await Task.Delay(Timeout.Infinite, _stop.Token);
+            }
+            catch (OperationCanceledException)
+            {
+            }
+        });
+
+        CliRun run = await Task.Run(() => CliRun.Of("ua", "browse", "--endpoint", $"opc.tcp://127.0.0.1:{port}/x", "--connect-timeout", "2s"));
+        await _stop.CancelAsync();
+        await peer;
+
+        Assert.Equal(3, run.ExitCode);
+        Assert.Contains("OpenSecureChannel got no response", run.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Read_UnknownNode_IsSummarisedOnStandardError()
+    {
+        CliRun run = CliRun.Of("ua", "read", "--endpoint", Url, "--node", "ns=2;s=Train.FeedFlow", "--node", "ns=2;s=Train.NotThere");
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        Assert.Contains("1 of 2 node(s) could not be read: ns=2;s=Train.NotThere (BadNodeIdUnknown)", run.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Watch_For_EndsCleanlyWithoutAConnectionFault()
+    {
+        CliRun run = CliRun.Of("ua", "watch", "--endpoint", Url, "--node", "ns=2;s=Train.FeedFlow", "--for", "500ms");
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        Assert.Contains("watch ended as asked", run.Error, StringComparison.Ordinal);
+        Assert.DoesNotContain("Disconnected", run.Error, StringComparison.Ordinal);
     }
 
     [Fact]

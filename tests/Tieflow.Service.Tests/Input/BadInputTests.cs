@@ -107,6 +107,14 @@ public sealed class BadInputTests
         { "design goal unknown", "case.json", System, DesignCase.Replace("\"find\": \"stages\"", "\"find\": \"trays\""), "$.find", "expected one of" },
         { "design target above the feed", "case.json", System, DesignCase.Replace("0.05", "0.4"), "$.target.raffinateFraction", "not below the feed" },
         { "design recovery of one", "case.json", System, DesignCase.Replace("\"raffinateFraction\": 0.05", "\"recovery\": 1"), "$.target.recovery", "infinitely many stages" },
+        // Reproducers of the fuzz campaign (issue 12).
+        { "isotherm point 1e308", "system.json", Distribution.Replace("\"k\": 1.5", "\"isotherm\": [[0, 0], [1e308, 1e308]]"), null, "$.equilibrium.isotherm[1][0]", "between 0 and 1000" },
+        { "distribution k 1e308", "system.json", Distribution.Replace("\"k\": 1.5", "\"k\": 1e308"), null, "$.equilibrium.k", "between 1E-06 and 1E+06" },
+        { "name with a terminal escape", "system.json", System.Replace("\"name\": \"water - acetone - trichloroethane\"", "\"name\": \"\\u001b[31mred\""), null, "$.name", "without control characters" },
+        { "component id with an open bracket", "system.json", System.Replace("\"id\": \"tce\"", "\"id\": \"a[b\""), null, "$.components[2].id", "not a valid id" },
+        { "component id as colour markup", "system.json", System.Replace("\"id\": \"tce\"", "\"id\": \"[red]acetone[/]\""), null, "$.components[2].id", "not a valid id" },
+        { "NUL in the system path", "case.json", System, SplitCase.Replace("system.json", "system\\u0000.json"), "$.system", "NUL character" },
+        { "design crosscurrent", "case.json", System, DesignCase.Replace("countercurrent", "crosscurrent"), "$.arrangement", "design calculations are for counter-current cascades" },
         { "design solvent without stages", "case.json", System, DesignCase.Replace("\"find\": \"stages\"", "\"find\": \"solvent\""), "$.stages", "required key is missing" },
     };
 

@@ -19,6 +19,10 @@ public sealed class SignalChecker
     private int _count;
     private int _next;
     private DateTimeOffset? _lastUpdate;
+    private double _lastValue = double.NaN;
+    private double _pendingSpike;
+    private double _pendingSpikeValue;
+    private SignalQuality _lastQuality = SignalQuality.Good;
 
     /// <summary>Creates the checker of one instrument.</summary>
     /// <param name="instrument">The instrument (sigma and range in its engineering unit).</param>
@@ -48,12 +52,17 @@ public sealed class SignalChecker
     /// <param name="sample">The reading, in the tag's engineering unit.</param>
     public TagCheckState Check(in SignalSample sample)
     {
-        if (_instrument.IsAnalyzer && _lastUpdate is { } last && sample.Time - last < UpdateInterval / 2 && sample.Quality != SignalQuality.Bad)
+        // An analyzer holds its value between updates: a repeat of the last value is a held value unless it comes so long
+        // after the last update (1.5 intervals) that it must be a new value that happens to be equal.
+        if (_instrument.IsAnalyzer && _lastUpdate is { } last && sample.Quality != SignalQuality.Bad && _lastQuality != SignalQuality.Bad
+            && sample.Value.Equals(_lastValue) && sample.Time - last < UpdateInterval * 1.5)
         {
             return new TagCheckState(false, false, Problem, Describe(Problem));
         }
 
         _lastUpdate = sample.Time;
+        _lastValue = sample.Value;
+        _lastQuality = sample.Quality;
         if (sample.Quality == SignalQuality.Bad || !double.IsFinite(sample.Value))
         {
             return Set(SignalProblem.BadQuality, used: false);
@@ -64,10 +73,29 @@ public sealed class SignalChecker
             return Set(SignalProblem.OutOfRange, used: false);
         }
 
-        if (_count >= _recent.Length && IsSpike(sample.Value))
+        if (_count >= _recent.Length && IsSpike(sample.Value, out double side))
         {
-            // A spike is left out, and not added to the history that judges the next reading.
-            return new TagCheckState(false, true, SignalProblem.Spike, Describe(SignalProblem.Spike));
+            // A spike is left out, and not added to the history that judges the next reading; but two in a row on the
+            // same side are a real change of level (a process step), and the history restarts from them.
+            if (_pendingSpike != 0 && Math.Sign(side) == Math.Sign(_pendingSpike))
+            {
+                _count = 0;
+                _next = 0;
+                _recent[_next] = _pendingSpikeValue;
+                _next = 1;
+                _count = 1;
+                _pendingSpike = 0;
+            }
+            else
+            {
+                _pendingSpike = side;
+                _pendingSpikeValue = sample.Value;
+                return new TagCheckState(false, true, SignalProblem.Spike, Describe(SignalProblem.Spike));
+            }
+        }
+        else
+        {
+            _pendingSpike = 0;
         }
 
         _recent[_next] = sample.Value;
@@ -139,7 +167,7 @@ public sealed class SignalChecker
         return ss / (sigma * sigma) < _frozenCritical;
     }
 
-    private bool IsSpike(double value)
+    private bool IsSpike(double value, out double side)
     {
         Array.Copy(_recent, _scratch, _recent.Length);
         Array.Sort(_scratch);
@@ -154,7 +182,8 @@ public sealed class SignalChecker
         // 1.4826 makes the median absolute deviation a consistent estimate of sigma for normal data
         // (Rousseeuw and Croux, J. Am. Stat. Assoc. 88(424), 1993, 1273-1283).
         double scale = Math.Max(1.4826 * Median(_scratch), _instrument.Sigma);
-        double deviation = Math.Abs(value - median);
+        side = value - median;
+        double deviation = Math.Abs(side);
         return deviation / scale > _settings.SpikeZ && deviation > _settings.SpikeSigmas * _instrument.Sigma;
     }
 

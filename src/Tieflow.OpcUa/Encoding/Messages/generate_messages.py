@@ -2,7 +2,7 @@
 """Generates the UA Binary structure and service message classes of Tieflow.OpcUa from the table below.
 
 Field order and types follow OPC 10000-4 (Services) and OPC 10000-6 (Mappings); encoding ids are those of
-<Type>_Encoding_DefaultBinary in namespace 0 (see the project's OPC UA digest §1.5). Run from this folder:
+<Type>_Encoding_DefaultBinary in namespace 0 (see docs/opcua.md §1.5). Run from this folder:
     python3 generate_messages.py
 The generated .cs files are committed; edit this table, not them.
 """
