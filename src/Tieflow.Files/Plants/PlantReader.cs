@@ -152,7 +152,12 @@ public static partial class PlantReader
         {
             foreach ((string key, JsonValue v) in ao.Members())
             {
-                (double min, double max, string what) = AlertLimits[key];
+                if (!AlertLimits.TryGetValue(key, out (double Min, double Max, string What) limits))
+                {
+                    continue;
+                }
+
+                (double min, double max, string what) = limits;
                 double? x = what == "duration"
                     ? v.AsDuration(TimeSpan.FromSeconds(min), TimeSpan.FromSeconds(max))?.TotalSeconds
                     : v.AsNumber(min, max, minExclusive: min == 0, unit: what);

@@ -26,7 +26,8 @@ internal static class UaWatchHandler
         {
             throw new UaCliException(ExitCodes.BadInput, "--node names the same node twice");
         }
-        using var stop = duration is { } limit ? new CancellationTokenSource(limit) : new CancellationTokenSource();
+        // --for counts from the moment the subscription is made, so that a slow connect does not eat the watch.
+        using var stop = new CancellationTokenSource();
         ConsoleCancelEventHandler onCancel = (_, e) =>
         {
             e.Cancel = true;
@@ -35,7 +36,13 @@ internal static class UaWatchHandler
         Console.CancelKeyPress += onCancel;
         try
         {
-            return RunAsync(context, settings, nodeTexts, nodes, sampling, json, stop.Token).GetAwaiter().GetResult();
+            return RunAsync(context, settings, nodeTexts, nodes, sampling, json, stop.Token, () =>
+            {
+                if (duration is { } limit)
+                {
+                    stop.CancelAfter(limit);
+                }
+            }).GetAwaiter().GetResult();
         }
         finally
         {
@@ -44,7 +51,7 @@ internal static class UaWatchHandler
     }
 
     private static async Task<int> RunAsync(CliContext context, UaSession.SessionSettings settings, string[] texts, List<ExpandedNodeId> nodes,
-        TimeSpan sampling, bool json, CancellationToken stop)
+        TimeSpan sampling, bool json, CancellationToken stop, Action watching)
     {
         UaClient client;
         try
@@ -53,6 +60,7 @@ internal static class UaWatchHandler
         }
         catch (OperationCanceledException) when (stop.IsCancellationRequested)
         {
+            context.Error.WriteLine("watch ended as asked, before the connection was made.");
             return ExitCodes.Success;
         }
         await using (client.ConfigureAwait(false))
@@ -78,6 +86,7 @@ internal static class UaWatchHandler
             }, monitored, stop).ConfigureAwait(false);
             await using (subscription.ConfigureAwait(false))
             {
+                watching();
                 var failed = subscription.Items.Where(i => i.Status.IsBad).ToList();
                 foreach (var item in failed)
                 {

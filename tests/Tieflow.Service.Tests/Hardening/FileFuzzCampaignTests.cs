@@ -40,6 +40,7 @@ public sealed class FileFuzzCampaignTests(ITestOutputHelper output)
         ("x300-design-minimum-solvent.case.json", "design"),
         ("hx-bypass-reconcile.case.json", "reconcile"),
         ("x350-two-stage-reconcile.case.json", "reconcile"),
+        ("brackenmoor.plant.json", null),
     ];
 
     private static readonly string[] HostileStrings = ["", " ", "a[b", "[red]acetone[/]", "x\u0000y", "\u0007", new string('z', 5000), "../../etc/passwd", "/dev/zero", "NaN", "1e308", "water"];
