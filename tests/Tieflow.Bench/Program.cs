@@ -1,24 +1,30 @@
 using System.Globalization;
 using BenchmarkDotNet.Running;
 using Tieflow.Bench.OpcUa;
+using Tieflow.Bench.Simulator;
 
 namespace Tieflow.Bench;
 
 /// <summary>Runs the benchmarks chosen on the command line: <c>dotnet run -c Release --project tests/Tieflow.Bench -- --filter '*'</c>.</summary>
 public static class Program
 {
-    public static async Task Main(string[] args)
+    public static async Task<int> Main(string[] args)
     {
         if (args.Length > 0 && args[0] == "latency")
         {
             await NotificationLatencyProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 20);
-            return;
+            return 0;
+        }
+
+        if (args.Length > 0 && args[0] == "simulator")
+        {
+            return SimulatorThroughput.Run(args.Length > 1 ? double.Parse(args[1], CultureInfo.InvariantCulture) : 48);
         }
 
         if (args.Length > 0 && args[0] == "store")
         {
             await Storage.StoreProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 400_000);
-            return;
+            return 0;
         }
 
         if (args.Length > 0 && args[0] == "forward")
@@ -26,21 +32,22 @@ public static class Program
             await Storage.ForwardingProbe.RunAsync(
                 args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 300_000,
                 args.Length > 2 ? int.Parse(args[2], CultureInfo.InvariantCulture) : 5000);
-            return;
+            return 0;
         }
 
         if (args.Length > 0 && args[0] == "connect")
         {
             await SecuredConnectProbe.RunAsync(args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 20);
-            return;
+            return 0;
         }
 
         if (args.Length > 0 && args[0] == "scaling")
         {
             Reconciliation.TrainScalingProbe.Run(Console.Out);
-            return;
+            return 0;
         }
 
         BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
+        return 0;
     }
 }

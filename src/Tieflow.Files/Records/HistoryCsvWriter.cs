@@ -1,35 +1,41 @@
 using System.Globalization;
+using System.Text;
 using Tieflow.Core.Monitoring;
 
 namespace Tieflow.Files;
 
 /// <summary>
 /// Writes a history CSV (<c>time,tag,value,quality</c>) as the samples come, never holding them: invariant culture,
-/// ISO 8601 UTC times, values in the shortest text that reads back to the same double.
+/// ISO 8601 UTC times, values in the shortest text that reads back to the same double. Formats straight into a
+/// UTF-8 buffer (a simulator writes millions of rows: the time text is made once per time, each tag's bytes once).
 /// </summary>
 public sealed class HistoryCsvWriter : IDisposable
 {
     public const string Header = "time,tag,value,quality";
 
-    private readonly TextWriter _writer;
-    private readonly bool _ownsWriter;
-    private readonly char[] _number = new char[32];
+    private const int BufferSize = 1 << 16;
+    private const int MaxRow = 512;
+    private static readonly byte[] Good = ",good\n"u8.ToArray();
+    private static readonly byte[] Uncertain = ",uncertain\n"u8.ToArray();
+    private static readonly byte[] Bad = ",bad\n"u8.ToArray();
+
+    private readonly Stream _stream;
+    private readonly bool _leaveOpen;
+    private readonly byte[] _buffer = new byte[BufferSize];
+    private readonly Dictionary<string, byte[]> _tags = new(StringComparer.Ordinal);
+    private int _position;
     private DateTimeOffset _lastTime = DateTimeOffset.MinValue;
-    private string _lastTimeText = string.Empty;
+    private byte[] _lastTimeBytes = [];
 
-    /// <summary>Writes to a text writer (the header at once); the writer is left open on dispose.</summary>
-    public HistoryCsvWriter(TextWriter writer)
-        : this(writer, ownsWriter: false)
+    /// <summary>Writes to a stream (the header at once).</summary>
+    /// <param name="stream">The target.</param>
+    /// <param name="leaveOpen">True to leave the stream open on dispose.</param>
+    public HistoryCsvWriter(Stream stream, bool leaveOpen = true)
     {
-    }
-
-    private HistoryCsvWriter(TextWriter writer, bool ownsWriter)
-    {
-        ArgumentNullException.ThrowIfNull(writer);
-        _writer = writer;
-        _ownsWriter = ownsWriter;
-        _writer.Write(Header);
-        _writer.Write('\n');
+        ArgumentNullException.ThrowIfNull(stream);
+        _stream = stream;
+        _leaveOpen = leaveOpen;
+        Append(Encoding.UTF8.GetBytes(Header + "\n"));
     }
 
     /// <summary>Number of records written.</summary>
@@ -38,7 +44,7 @@ public sealed class HistoryCsvWriter : IDisposable
     /// <summary>Creates (or replaces) a file and writes the header.</summary>
     /// <exception cref="IOException">The file cannot be created.</exception>
     public static HistoryCsvWriter Create(string path) =>
-        new(new StreamWriter(path, append: false, new System.Text.UTF8Encoding(false), bufferSize: 1 << 16), ownsWriter: true);
+        new(new FileStream(path, FileMode.Create, FileAccess.Write, FileShare.Read, BufferSize), leaveOpen: false);
 
     public static string QualityName(SignalQuality quality) => quality switch
     {
@@ -52,44 +58,71 @@ public sealed class HistoryCsvWriter : IDisposable
     /// <exception cref="ArgumentException">The tag cannot be written as a plain CSV field.</exception>
     public void Write(in SignalSample sample)
     {
-        if (sample.Time != _lastTime || _lastTimeText.Length == 0)
+        if (sample.Time != _lastTime || _lastTimeBytes.Length == 0)
         {
             _lastTime = sample.Time;
-            _lastTimeText = RecordFormat.Time(sample.Time);
+            _lastTimeBytes = Encoding.UTF8.GetBytes(RecordFormat.Time(sample.Time) + ",");
         }
 
-        if (!RecordFormat.IsPlainField(sample.Tag))
+        if (!_tags.TryGetValue(sample.Tag, out byte[]? tag))
         {
-            throw new ArgumentException($"tag \"{sample.Tag}\" cannot be written to a history CSV: it is empty or holds a comma, quote, line break or surrounding blank", nameof(sample));
+            if (!RecordFormat.IsPlainField(sample.Tag) || sample.Tag.Length > 200)
+            {
+                throw new ArgumentException($"tag \"{sample.Tag}\" cannot be written to a history CSV: it is empty, too long, or holds a comma, quote, line break or surrounding blank", nameof(sample));
+            }
+
+            tag = Encoding.UTF8.GetBytes(sample.Tag + ",");
+            _tags.Add(sample.Tag, tag);
         }
 
-        _writer.Write(_lastTimeText);
-        _writer.Write(',');
-        _writer.Write(sample.Tag);
-        _writer.Write(',');
-        if (sample.Value.TryFormat(_number, out int written, "R", CultureInfo.InvariantCulture))
+        if (_position + MaxRow > BufferSize)
         {
-            _writer.Write(_number, 0, written);
-        }
-        else
-        {
-            _writer.Write(RecordFormat.Number(sample.Value));
+            Flush(toDisk: false);
         }
 
-        _writer.Write(',');
-        _writer.Write(QualityName(sample.Quality));
-        _writer.Write('\n');
+        Append(_lastTimeBytes);
+        Append(tag);
+        if (!sample.Value.TryFormat(_buffer.AsSpan(_position), out int written, "R", CultureInfo.InvariantCulture))
+        {
+            throw new InvalidOperationException("a number did not fit its buffer");
+        }
+
+        _position += written;
+        Append(sample.Quality switch
+        {
+            SignalQuality.Good => Good,
+            SignalQuality.Uncertain => Uncertain,
+            SignalQuality.Bad => Bad,
+            _ => throw new ArgumentOutOfRangeException(nameof(sample), sample.Quality, "Unknown quality."),
+        });
         Count++;
     }
 
-    public void Flush() => _writer.Flush();
+    /// <summary>Writes what is buffered to the stream and flushes it.</summary>
+    public void Flush() => Flush(toDisk: true);
 
     public void Dispose()
     {
-        _writer.Flush();
-        if (_ownsWriter)
+        Flush();
+        if (!_leaveOpen)
         {
-            _writer.Dispose();
+            _stream.Dispose();
         }
+    }
+
+    private void Flush(bool toDisk)
+    {
+        _stream.Write(_buffer, 0, _position);
+        _position = 0;
+        if (toDisk)
+        {
+            _stream.Flush();
+        }
+    }
+
+    private void Append(byte[] bytes)
+    {
+        bytes.CopyTo(_buffer, _position);
+        _position += bytes.Length;
     }
 }

@@ -1,0 +1,98 @@
+using System.Diagnostics;
+using System.Globalization;
+using Tieflow.Core.Scenarios;
+using Tieflow.Files;
+using Tieflow.Simulator.Serving;
+
+namespace Tieflow.Simulator.Cli;
+
+/// <summary>
+/// <c>tieflow-sim run</c>: loads the scenario, runs the simulation step by step, streams history, labs and truth to
+/// their files and the readings to the OPC UA server, paces the run (<c>--speed</c>) or not, reports progress on
+/// standard error, and stops cleanly when cancelled (Ctrl+C): the files then hold everything up to that step.
+/// </summary>
+internal static class RunHandler
+{
+    public const string Advisory =
+        "Advisory only: tieflow-sim simulates a plant for testing and training; it is not a safety system and never writes to a control system.";
+
+    public static async Task<int> RunAsync(RunSettings settings, TextWriter error, TimeProvider time, CancellationToken cancellationToken)
+    {
+        error.WriteLine(Advisory);
+        Scenario scenario = ScenarioReader.Load(settings.ScenarioPath);
+        if (settings.Serve is not null && InstrumentServer.Problems(scenario.Plant) is { Count: > 0 } problems)
+        {
+            throw new InputException(problems.Select(p => new InputProblem(settings.ScenarioPath, "plant", p)).ToArray());
+        }
+
+        var simulation = new PlantSimulation(scenario);
+        InstrumentServer? server = null;
+        try
+        {
+            if (settings.Serve is { } endpoint)
+            {
+                server = await InstrumentServer.StartAsync(scenario.Plant, endpoint, time, cancellationToken).ConfigureAwait(false);
+                error.WriteLine($"serving {scenario.Plant.Units.Sum(u => u.Instruments.Count)} instruments at {server.EndpointUrl}");
+            }
+
+            using var sink = new OutputSink(simulation, settings.HistoryPath, settings.LabsPath, settings.TruthPath, server);
+            bool completed = await LoopAsync(simulation, sink, settings.Speed, error, time, cancellationToken).ConfigureAwait(false);
+            error.WriteLine(completed
+                ? $"done: {simulation.StepIndex} steps, {scenario.Start:u} to {simulation.Time:u}"
+                : $"stopped at {simulation.Time:u} after {simulation.StepIndex} of {simulation.StepCount} steps; the files hold everything up to then");
+        }
+        finally
+        {
+            if (server is not null)
+            {
+                await server.DisposeAsync().ConfigureAwait(false);
+            }
+        }
+
+        return 0;
+    }
+
+    private static async Task<bool> LoopAsync(PlantSimulation simulation, OutputSink sink, double? speed, TextWriter error, TimeProvider time, CancellationToken cancellationToken)
+    {
+        double stepSeconds = simulation.Scenario.Step.TotalSeconds;
+        long started = time.GetTimestamp();
+        long lastReport = started;
+        while (!simulation.Finished)
+        {
+            if (cancellationToken.IsCancellationRequested)
+            {
+                return false;
+            }
+
+            simulation.Step(sink);
+            if (speed is double factor)
+            {
+                // The wall-clock time at which this step is due; wait only when ahead by more than a few milliseconds.
+                double due = simulation.StepIndex * stepSeconds / factor;
+                double ahead = due - time.GetElapsedTime(started).TotalSeconds;
+                if (ahead > 0.005)
+                {
+                    sink.Flush();
+                    try
+                    {
+                        await Task.Delay(TimeSpan.FromSeconds(ahead), time, cancellationToken).ConfigureAwait(false);
+                    }
+                    catch (OperationCanceledException)
+                    {
+                        return false;
+                    }
+                }
+            }
+
+            if (time.GetElapsedTime(lastReport) >= TimeSpan.FromSeconds(2))
+            {
+                lastReport = time.GetTimestamp();
+                TimeSpan done = simulation.Time - simulation.Scenario.Start;
+                error.WriteLine(string.Create(CultureInfo.InvariantCulture, $"simulated {done:c} of {simulation.Scenario.Duration:c} ({100.0 * simulation.StepIndex / simulation.StepCount:F0} %)"));
+            }
+        }
+
+        Debug.Assert(simulation.Finished, "the loop ends when the run is finished or cancelled");
+        return true;
+    }
+}

@@ -1,0 +1,22 @@
+namespace Tieflow.Simulator.Tests;
+
+/// <summary>Finds folders of the repository from the test's output folder.</summary>
+internal static class RepositoryPaths
+{
+    public static string Root { get; } = FindRoot();
+
+    public static string ConfigSamples => Path.Combine(Root, "config-samples");
+
+    private static string FindRoot()
+    {
+        for (var dir = new DirectoryInfo(AppContext.BaseDirectory); dir is not null; dir = dir.Parent)
+        {
+            if (File.Exists(Path.Combine(dir.FullName, "Monitor.sln")))
+            {
+                return dir.FullName;
+            }
+        }
+
+        throw new InvalidOperationException($"Monitor.sln not found above {AppContext.BaseDirectory}");
+    }
+}
