@@ -5,7 +5,7 @@ using Tieflow.Core.Monitoring.Records;
 namespace Tieflow.Storage.Points;
 
 /// <summary>
-/// The one mapping of analysis records to store points, as CONTRACTS.md names them: every point has the tags
+/// The one mapping of analysis records to store points, as docs/stores.md names them: every point has the tags
 /// <c>site</c> and <c>unit</c>; the measurements, extra tags and fields are those of the contract's table. Null members
 /// become absent fields; non-finite numbers (which line protocol cannot carry) are left out too. Both the SQLite store
 /// and the InfluxDB writer use this mapping, so the two hold the same points.

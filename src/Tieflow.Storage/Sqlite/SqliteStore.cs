@@ -5,7 +5,7 @@ using Tieflow.Storage.Points;
 namespace Tieflow.Storage.Sqlite;
 
 /// <summary>
-/// The embedded store: one SQLite file in WAL mode holding the points of CONTRACTS.md in one table keyed by
+/// The embedded store: one SQLite file in WAL mode holding the points of docs/stores.md in one table keyed by
 /// (time, measurement, tags), so that writing a record again overwrites it. Time leads the key because records arrive
 /// in time order: inserts append at the end of the tree, and retention deletes from its start. Each batch is one transaction through a
 /// prepared statement; retention by age and by size runs after each commit.
