@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Installs tieflow for the current user: a framework-dependent Release build (needs the .NET 10 runtime) published
-# into PREFIX/share/tieflow, linked as PREFIX/bin/tieflow. PREFIX defaults to ~/.local.
+# into PREFIX/share/tieflow, linked as PREFIX/bin/tieflow (and the simulated plant as PREFIX/bin/tieflow-sim).
+# PREFIX defaults to ~/.local.
 #   ./install.sh [--prefix DIR]      install or update
 #   ./install.sh --uninstall         remove the build and the link
 set -euo pipefail
@@ -11,14 +12,14 @@ while [ $# -gt 0 ]; do
   case "$1" in
     --prefix) prefix=${2:?--prefix needs a folder}; shift 2 ;;
     --uninstall) uninstall=1; shift ;;
-    -h|--help) sed -n '2,5p' "$0"; exit 0 ;;
+    -h|--help) sed -n '2,6p' "$0"; exit 0 ;;
     *) echo "install.sh: unknown option $1" >&2; exit 2 ;;
   esac
 done
 app="$prefix/share/tieflow"
 link="$prefix/bin/tieflow"
 if [ "$uninstall" = 1 ]; then
-  rm -f "$link"
+  rm -f "$link" "$prefix/bin/tieflow-sim"
   rm -rf "$app"
   echo "removed $app and $link"
   exit 0
@@ -27,8 +28,10 @@ command -v dotnet >/dev/null 2>&1 || { echo "install.sh: the .NET 10 SDK is need
 export DOTNET_CLI_TELEMETRY_OPTOUT=1 DOTNET_NOLOGO=1
 rm -rf "$app"
 dotnet publish src/Tieflow.Service/Tieflow.Service.csproj -c Release -o "$app" -nologo -v q
+dotnet publish simulator/Tieflow.Simulator/Tieflow.Simulator.csproj -c Release -o "$app" -nologo -v q
 mkdir -p "$prefix/bin"
 ln -sfn "$app/tieflow" "$link"
+ln -sfn "$app/tieflow-sim" "$prefix/bin/tieflow-sim"
 echo "installed $("$link" --version | head -n 1) into $app; $link links to it"
 case ":$PATH:" in
   *":$prefix/bin:"*) ;;
