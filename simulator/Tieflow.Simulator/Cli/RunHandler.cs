@@ -31,8 +31,9 @@ internal static class RunHandler
         {
             if (settings.Serve is { } endpoint)
             {
-                server = await InstrumentServer.StartAsync(scenario.Plant, endpoint, time, cancellationToken).ConfigureAwait(false);
-                error.WriteLine($"serving {scenario.Plant.Units.Sum(u => u.Instruments.Count)} instruments at {server.EndpointUrl}");
+                server = await InstrumentServer.StartAsync(scenario.Plant, endpoint, time, cancellationToken, settings.Pki).ConfigureAwait(false);
+                error.WriteLine($"serving {scenario.Plant.Units.Sum(u => u.Instruments.Count)} instruments at {server.EndpointUrl}"
+                    + (settings.Pki is null ? " (SecurityPolicy None)" : $" (None, Sign and SignAndEncrypt; certificate in {Path.Combine(settings.Pki, "own")})"));
             }
 
             using var sink = new OutputSink(simulation, settings.HistoryPath, settings.LabsPath, settings.TruthPath, server);

@@ -45,9 +45,10 @@ internal static class SimCli
         Option<string?> serve = new("--serve") { Description = "Serve the instruments over OPC UA, e.g. opc.tcp://127.0.0.1:4841 (SecurityPolicy None, read-only)", HelpName = "URL" };
         Option<double?> speed = new("--speed") { Description = "Simulated time per wall-clock time (1 = real time; the default with --serve)", HelpName = "FACTOR" };
         Option<bool> fast = new("--as-fast-as-possible") { Description = "No pacing (the default without --serve)" };
+        Option<string?> pki = new("--pki") { Description = "With --serve: a certificate store folder; the server gets its certificate in own/ and also offers the signed and encrypted endpoints", HelpName = "DIR" };
         var command = new Command("run", "Simulates the plant of a scenario and writes the history, lab results and truth, or serves the live values.")
         {
-            scenario, history, labs, truth, serve, speed, fast,
+            scenario, history, labs, truth, serve, speed, fast, pki,
         };
         command.Validators.Add(result =>
         {
@@ -61,6 +62,11 @@ internal static class SimCli
                 result.AddError($"--speed must be a number above 0, found {f}.");
             }
 
+            if (result.GetValue(pki) is not null && result.GetValue(serve) is null)
+            {
+                result.AddError("--pki secures the OPC UA server; it needs --serve.");
+            }
+
             if (result.GetValue(serve) is string url && !TryEndpoint(url, out _, out string problem))
             {
                 result.AddError($"--serve {url}: {problem}");
@@ -70,7 +76,7 @@ internal static class SimCli
         {
             Uri? endpoint = parsed.GetValue(serve) is string url && TryEndpoint(url, out Uri? u, out _) ? u : null;
             double? pace = parsed.GetValue(fast) ? null : parsed.GetValue(speed) ?? (endpoint is null ? null : 1.0);
-            var settings = new RunSettings(parsed.GetValue(scenario)!, parsed.GetValue(history), parsed.GetValue(labs), parsed.GetValue(truth), endpoint, pace);
+            var settings = new RunSettings(parsed.GetValue(scenario)!, parsed.GetValue(history), parsed.GetValue(labs), parsed.GetValue(truth), endpoint, pace) { Pki = parsed.GetValue(pki) };
             return await Guard(error, () => RunHandler.RunAsync(settings, error, time, cancellationToken)).ConfigureAwait(false);
         });
         return command;

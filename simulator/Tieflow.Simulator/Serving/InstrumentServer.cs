@@ -2,6 +2,7 @@ using System.Net;
 using Tieflow.Core.Monitoring;
 using Tieflow.Core.Plant;
 using Tieflow.OpcUa.Encoding;
+using Tieflow.OpcUa.Security;
 using Tieflow.OpcUa.Server;
 
 namespace Tieflow.Simulator.Serving;
@@ -22,6 +23,9 @@ internal sealed class InstrumentServer : IAsyncDisposable
 
     /// <summary>The endpoint clients connect to.</summary>
     public string EndpointUrl => _server.EndpointUrl;
+
+    /// <summary>The simulator's application URI (also in its certificate).</summary>
+    public const string ApplicationUri = "urn:tieflow:simulator";
 
     /// <summary>Checks that every instrument's NodeId can be served; the problems, or none.</summary>
     public static IReadOnlyList<string> Problems(PlantDescription plant)
@@ -55,8 +59,20 @@ internal sealed class InstrumentServer : IAsyncDisposable
     /// <summary>Builds the address space for the plant and starts listening on <paramref name="endpoint"/>.</summary>
     /// <exception cref="ArgumentException">The endpoint or a NodeId cannot be served.</exception>
     /// <exception cref="System.Net.Sockets.SocketException">The port is taken.</exception>
-    public static async Task<InstrumentServer> StartAsync(PlantDescription plant, Uri endpoint, TimeProvider timeProvider, CancellationToken cancellationToken)
+    /// <param name="plant">The plant whose instruments are served.</param>
+    /// <param name="endpoint">Where to listen.</param>
+    /// <param name="timeProvider">The clock of the server.</param>
+    /// <param name="cancellationToken">Stops the start.</param>
+    /// <param name="pki">
+    /// A certificate store folder: when given, the server gets its own application certificate there (created on first
+    /// use) and offers the signed and encrypted endpoints besides None; as a local simulator it accepts any client
+    /// certificate that is valid in time.
+    /// </param>
+    public static async Task<InstrumentServer> StartAsync(PlantDescription plant, Uri endpoint, TimeProvider timeProvider, CancellationToken cancellationToken, string? pki = null)
     {
+        UaServerSecurityOptions? security = pki is null
+            ? null
+            : UaServerSecurityOptions.FromStore(new UaCertificateStore(pki), ApplicationUri, $"Tieflow simulated plant ({plant.Site})", [endpoint.Host, "localhost", System.Net.Dns.GetHostName()]);
         IPAddress address = endpoint.Host is "localhost" ? IPAddress.Loopback : IPAddress.Parse(endpoint.Host);
         var server = new UaServer(
             new UaServerOptions
@@ -64,7 +80,13 @@ internal sealed class InstrumentServer : IAsyncDisposable
                 ListenAddress = address,
                 Port = endpoint.Port,
                 ResourcePath = endpoint.AbsolutePath == "/" ? string.Empty : endpoint.AbsolutePath.TrimEnd('/'),
-                ApplicationUri = "urn:tieflow:simulator",
+                ApplicationUri = ApplicationUri,
+                Security = security is null ? null : new UaServerSecurityOptions
+                {
+                    Certificate = security.Certificate,
+                    ClientCertificateStore = null,
+                    AcceptAnyClientCertificate = true,
+                },
                 ApplicationName = $"Tieflow simulated plant ({plant.Site})",
                 NamespaceUri = "urn:tieflow:plant",
             },

@@ -85,3 +85,32 @@ public sealed class InstrumentServerTests
         return port;
     }
 }
+
+public sealed class SecuredInstrumentServerTests
+{
+    [Fact]
+    public async Task Serve_WithACertificateStore_AClientReadsUnderSignAndEncryptOnceItTrustsTheServer()
+    {
+        using var folder = new TempFolder();
+        string serverPki = Path.Combine(folder.Path, "server-pki"), clientPki = Path.Combine(folder.Path, "client-pki");
+        PlantDescription plant = new("Brackenmoor", [TestPlants.Train()]);
+        await using InstrumentServer server = await InstrumentServer.StartAsync(plant, new Uri("opc.tcp://127.0.0.1:0/sim"), TimeProvider.System, CancellationToken.None, serverPki);
+        server.Update(new SignalSample("FI-301", new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero), 1012.5, SignalQuality.Good));
+
+        // The server made its own application certificate in its store; the client trusts exactly that one.
+        string own = Assert.Single(Directory.GetFiles(Path.Combine(serverPki, "own"), "*.der"));
+        Directory.CreateDirectory(Path.Combine(clientPki, "trusted"));
+        File.Copy(own, Path.Combine(clientPki, "trusted", "simulator.der"));
+        await using var client = new Tieflow.OpcUa.Client.UaClient(new Tieflow.OpcUa.Client.UaClientOptions
+        {
+            EndpointUrl = new Uri(server.EndpointUrl),
+            Security = Tieflow.OpcUa.Security.UaSecurity.Parse("SignAndEncrypt:Aes256_Sha256_RsaPss"),
+            CertificateStore = new Tieflow.OpcUa.Security.UaCertificateStore(clientPki),
+        });
+        await client.ConnectAsync();
+
+        IReadOnlyList<DataValue> values = await client.ReadAsync([NodeId.Parse("ns=2;s=X300.FI301.PV")]);
+        Assert.Equal(Tieflow.OpcUa.Security.UaSecurity.Parse("SignAndEncrypt:Aes256_Sha256_RsaPss"), client.Security);
+        Assert.True(values[0].Value.TryGetDouble(out double v) && v == 1012.5, values[0].ToString());
+    }
+}
