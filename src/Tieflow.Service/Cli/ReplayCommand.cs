@@ -9,6 +9,8 @@ using Tieflow.Core.Plant;
 using Tieflow.Files;
 using Tieflow.Service.Output;
 using Tieflow.Service.Replay;
+using Tieflow.Storage.Points;
+using Tieflow.Storage.Sqlite;
 
 namespace Tieflow.Service.Cli;
 
@@ -21,17 +23,18 @@ internal static class ReplayCommand
         var history = new Option<string>("--history") { Description = "History CSV (time,tag,value,quality)", Required = true };
         var labs = new Option<string?>("--labs") { Description = "Lab CSV (sampled,reported,stream,component,value)" };
         var truth = new Option<string?>("--truth") { Description = "Ground truth of a simulated run: adds the evaluation" };
-        var records = new Option<string?>("--records") { Description = "Write every record as one JSON object per line to this file" };
+        var store = new Option<string?>("--store") { Description = "Write the records to this embedded SQLite store (created when missing; read it with 'tieflow show')" };
+        var records = new Option<string?>("--records") { Description = "Write every record as one line of InfluxDB line protocol to this file" };
         var json = new Option<bool>("--json") { Description = "Print the replay summary as JSON on standard output" };
         var command = new Command("replay", "Runs recorded history through the same analysis as live operation, as fast as possible.")
         {
-            plant, history, labs, truth, records, json,
+            plant, history, labs, truth, store, records, json,
         };
-        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(records), p.GetValue(json))));
+        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(store), p.GetValue(records), p.GetValue(json))));
         return command;
     }
 
-    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? recordsPath, bool json)
+    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? storePath, string? recordsPath, bool json)
     {
         PlantDescription plant = PlantReader.Load(plantPath);
         if (!File.Exists(historyPath))
@@ -41,27 +44,48 @@ internal static class ReplayCommand
 
         IReadOnlyList<LabResult> labs = labsPath is null ? [] : LabCsvReader.Load(labsPath);
         TruthFile? truth = truthPath is null ? null : TruthFileReader.Load(truthPath);
-        var runner = new ReplayRunner(plant);
-        using FileStream? recordFile = recordsPath is null ? null : new FileStream(recordsPath, FileMode.Create, FileAccess.Write, FileShare.Read, 1 << 16);
-        using var writer = recordFile is null ? null : new Utf8JsonWriter(recordFile, new JsonWriterOptions { SkipValidation = true });
+        using StreamWriter? recordFile = recordsPath is null ? null : new StreamWriter(recordsPath, append: false, new System.Text.UTF8Encoding(false), 1 << 16);
+        string? storeFolder = storePath is null ? null : Path.GetDirectoryName(Path.GetFullPath(storePath));
+        if (storeFolder is not null)
+        {
+            Directory.CreateDirectory(storeFolder);
+        }
+
+        SqliteStore? sqlite = storePath is null ? null : new SqliteStore(new SqliteStoreOptions { Path = storePath, Site = plant.Site }, TimeProvider.System);
         void Sink(IReadOnlyList<MonitorRecord> batch)
         {
-            if (writer is null)
+            // The store's own mapping is the one home of measurement, tag and field names: the line file and the
+            // embedded store get the same points.
+            sqlite?.WriteAsync(batch, CancellationToken.None).GetAwaiter().GetResult();
+            if (recordFile is null)
             {
                 return;
             }
 
             foreach (MonitorRecord r in batch)
             {
-                RecordJson.Write(writer, plant.Site, r);
-                writer.Flush();
-                recordFile!.WriteByte((byte)'\n');
-                writer.Reset();
+                if (RecordPoints.ToPoint(r, plant.Site) is { } point)
+                {
+                    recordFile.WriteLine(point.ToLine());
+                }
             }
         }
 
+        try
+        {
+            return Replay(context, plant, historyPath, labs, truth, Sink, json);
+        }
+        finally
+        {
+            sqlite?.DisposeAsync().AsTask().GetAwaiter().GetResult();
+        }
+    }
+
+    private static int Replay(CliContext context, PlantDescription plant, string historyPath, IReadOnlyList<LabResult> labs, TruthFile? truth, Action<IReadOnlyList<MonitorRecord>> sink, bool json)
+    {
+        var runner = new ReplayRunner(plant);
         context.Error.WriteLine(Notices.Advisory);
-        ReplayResult result = runner.Run(HistoryCsvReader.Read(historyPath), labs, Sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
+        ReplayResult result = runner.Run(HistoryCsvReader.Read(historyPath), labs, sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
         if (truth is not null)
         {
             result = ReplayRunner.Evaluate(result, truth);

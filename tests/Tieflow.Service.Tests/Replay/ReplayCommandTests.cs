@@ -28,7 +28,8 @@ public sealed class ReplayCommandTests
             """);
         (string history, string labs, string truth) = Simulate(ScenarioReader.Load(scenarioPath), folder.Path);
 
-        CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--json");
+        string store = Path.Combine(folder.Path, "data", "replay.db"), lines = Path.Combine(folder.Path, "records.lp");
+        CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--store", store, "--records", lines, "--json");
 
         Assert.True(run.ExitCode == 0, run.Error);
         using JsonDocument doc = JsonDocument.Parse(run.Output);
@@ -51,6 +52,19 @@ public sealed class ReplayCommandTests
         Assert.InRange(byUnit.GetProperty("X300").GetDouble(), 0, 0.2 * 0.1);
         Assert.InRange(byUnit.GetProperty("C200").GetDouble(), 0, 0.2 * 0.0008);
         Assert.Contains("not a safety system", root.GetProperty("notice").GetString(), StringComparison.Ordinal);
+
+        // The same records went to the embedded store and, as line protocol, to the records file.
+        CliRun show = CliRun.Of("show", "--store", store, "--json");
+        Assert.True(show.ExitCode == 0, show.Error);
+        using JsonDocument shown = JsonDocument.Parse(show.Output);
+        JsonElement counts = shown.RootElement.GetProperty("counts");
+        foreach (string measurement in new[] { "tieflow_stream", "tieflow_stage", "tieflow_unit", "tieflow_soft_sensor", "tieflow_alert" })
+        {
+            Assert.True(counts.GetProperty(measurement).GetInt64() > 0, measurement);
+        }
+
+        string[] written = File.ReadAllLines(lines);
+        Assert.Contains(written, l => l.StartsWith("tieflow_alert,", StringComparison.Ordinal) && l.Contains("tag=FI-302", StringComparison.Ordinal));
     }
 
     [Fact]
