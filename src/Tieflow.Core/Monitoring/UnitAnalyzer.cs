@@ -455,16 +455,16 @@ public sealed class UnitAnalyzer
             output.Add(new StageRecord(_unit.Id, end, k + 1, steady ? efficiencies[k] : null, entrainmentByStage[k], stageTemperatures[k]));
         }
 
-        if (steady)
-        {
-            UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0, output);
-            UpdateSuspects(end, rec.SuspectTags, output);
-        }
-
         (double dissolved, double unaccounted, double unaccountedSigma) = SolventAccounting(final, byTag);
         if (steady)
         {
             UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
+
+            // Consequential alerts are suppressed (ISA-18.2 design-based suppression): while a solvent loss is raised,
+            // the flow meters whose balance it opens are not suspects and the efficiencies it biases do not drift.
+            bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null));
+            UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking, output);
+            UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, output);
         }
 
         (double steadyState, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
