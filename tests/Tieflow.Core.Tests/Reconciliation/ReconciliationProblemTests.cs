@@ -5,7 +5,7 @@ namespace Tieflow.Core.Tests.Reconciliation;
 public sealed class ReconciliationProblemTests
 {
     // Expected values: Narasimhan and Jordache, "Data Reconciliation and Gross Error Detection" (Gulf, 2000),
-    // heat exchanger with bypass, as transcribed with computed reconciled values and normalised adjustments in
+    // heat exchanger with bypass, as reproduced with computed reconciled values and normalised adjustments in
     // docs/reference-data.md §4.
     [Fact]
     public void Reconcile_HeatExchangerWithBypass_MatchesReference()

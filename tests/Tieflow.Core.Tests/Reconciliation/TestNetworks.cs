@@ -10,7 +10,7 @@ internal static class TestNetworks
     public static readonly string[] TernaryComponents = ["a", "b", "c"];
 
     // Heat exchanger with bypass: Narasimhan and Jordache, "Data Reconciliation and Gross Error Detection" (Gulf, 2000),
-    // as transcribed in docs/reference-data.md §4. Splitter F1 = F2 + F3, exchanger F2 = F4,
+    // as reproduced in docs/reference-data.md §4. Splitter F1 = F2 + F3, exchanger F2 = F4,
     // bypass F3 = F5, mixer F4 + F5 = F6.
     public static ProcessNetwork HeatExchangerWithBypass() => new(
         ["splitter", "exchanger", "bypass", "mixer"],

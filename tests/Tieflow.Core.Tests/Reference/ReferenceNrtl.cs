@@ -7,7 +7,7 @@ namespace Tieflow.Core.Tests.Reference;
 /// <summary>
 /// Ethyl acetate - water - ethanol NRTL parameters copied from the project's reference folder
 /// (ethyl-acetate-water-ethanol.nrtl.system.json): credited to Renon and Prausnitz (1969), Ind. Eng. Chem. Process
-/// Des. Dev. 8, 413 (citation from memory), as transcribed in a public notebook; not checked against the paper.
+/// Des. Dev. 8, 413 (citation from memory), as reproduced in a public notebook; not checked against the paper.
 /// Roles: solute ethanol (0), diluent water (1), solvent ethyl acetate (2). tau_ij = g_ij / (R T), g in cal/mol.
 /// </summary>
 internal static class ReferenceNrtl

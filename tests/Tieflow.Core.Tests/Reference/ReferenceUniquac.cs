@@ -11,7 +11,7 @@ internal static class ReferenceUniquac
 {
     /// <summary>
     /// Water - ethanol - benzene at 25 C: Gmehling, Kleiber, Kolbe and Rarey, Chemical Thermodynamics for Process
-    /// Simulation, 2nd ed., Wiley (2019), Example 5.19, as transcribed in the documentation of the open-source thermo
+    /// Simulation, 2nd ed., Wiley (2019), Example 5.19, as reproduced in the documentation of the open-source thermo
     /// library (C. Bell). r, q: water 0.92, 1.4; ethanol 2.1055, 1.972; benzene 3.1878, 2.4. Delta u_ij (K), rows and
     /// columns water, ethanol, benzene: [0, 526.02, 309.64], [-318.06, 0, -91.532], [1325.1, 302.57, 0].
     /// Roles: solute ethanol, diluent water, solvent benzene.
@@ -34,7 +34,7 @@ internal static class ReferenceUniquac
 
     /// <summary>
     /// Acetonitrile - benzene - n-heptane at 45 C: Poling, Prausnitz and O'Connell, The Properties of Gases and
-    /// Liquids, 5th ed., McGraw-Hill (2000), problem 8.32, as transcribed in the documentation of the open-source thermo
+    /// Liquids, 5th ed., McGraw-Hill (2000), problem 8.32, as reproduced in the documentation of the open-source thermo
     /// library (C. Bell). r, q: acetonitrile 1.87, 1.72; benzene 3.19, 2.4; heptane 5.17, 4.4. a_ij (K), rows and columns
     /// acetonitrile, benzene, heptane: [0, 60.28, 23.71], [89.57, 0, -135.9], [545.8, 245.4, 0].
     /// Roles: solute benzene, diluent heptane, solvent acetonitrile.
