@@ -24,7 +24,7 @@ internal static class SampleScenarios
             json["seed"] = s;
         }
 
-        target = folder.File(target ?? name);
+        target = folder.PathOf(target ?? name);
         File.WriteAllText(target, json.ToJsonString());
         return target;
     }

@@ -15,20 +15,20 @@ public sealed class SimCliTests
     {
         using var folder = new TempFolder();
         string scenarioPath = SampleScenarios.Copy(folder, name);
-        (int code, string error) = await RunAsync("run", "--scenario", scenarioPath, "--history", folder.File("h.csv"), "--labs", folder.File("l.csv"), "--truth", folder.File("t.json"));
+        (int code, string error) = await RunAsync("run", "--scenario", scenarioPath, "--history", folder.PathOf("h.csv"), "--labs", folder.PathOf("l.csv"), "--truth", folder.PathOf("t.json"));
 
         Assert.True(code == 0, error);
         Assert.Contains("not a safety system", error, StringComparison.Ordinal);
         Scenario scenario = ScenarioReader.Load(scenarioPath);
         long steps = (long)(scenario.Duration / scenario.Step);
         int instruments = scenario.Plant.Units.Sum(u => u.Instruments.Count);
-        SignalSample[] history = HistoryCsvReader.Read(folder.File("h.csv")).ToArray();
+        SignalSample[] history = HistoryCsvReader.Read(folder.PathOf("h.csv")).ToArray();
         Assert.Equal(steps * instruments, history.Length);
         Assert.Equal(scenario.Start, history[0].Time);
-        IReadOnlyList<LabResult> labs = LabCsvReader.Load(folder.File("l.csv"));
+        IReadOnlyList<LabResult> labs = LabCsvReader.Load(folder.PathOf("l.csv"));
         Assert.NotEmpty(labs);
         Assert.All(labs, l => Assert.True(l.Reported <= scenario.End));
-        TruthFile truth = TruthFileReader.Load(folder.File("t.json"));
+        TruthFile truth = TruthFileReader.Load(folder.PathOf("t.json"));
         foreach (var unit in scenario.Plant.Units)
         {
             UnitTruth t = truth.ForUnit(unit.Id)!;
@@ -47,18 +47,18 @@ public sealed class SimCliTests
         string other = SampleScenarios.Copy(folder, "fault-entrainment.scenario.json", step: "00:00:10", seed: 8, target: "seed8.scenario.json");
         foreach ((string s, string suffix) in new[] { (scenario, "a"), (scenario, "b"), (other, "c") })
         {
-            (int code, string error) = await RunAsync("run", "--scenario", s, "--history", folder.File($"h{suffix}.csv"), "--labs", folder.File($"l{suffix}.csv"), "--truth", folder.File($"t{suffix}.json"));
+            (int code, string error) = await RunAsync("run", "--scenario", s, "--history", folder.PathOf($"h{suffix}.csv"), "--labs", folder.PathOf($"l{suffix}.csv"), "--truth", folder.PathOf($"t{suffix}.json"));
             Assert.True(code == 0, error);
         }
 
         foreach (string kind in new[] { "h{0}.csv", "l{0}.csv", "t{0}.json" })
         {
-            byte[] a = File.ReadAllBytes(folder.File(string.Format(System.Globalization.CultureInfo.InvariantCulture, kind, "a")));
-            byte[] b = File.ReadAllBytes(folder.File(string.Format(System.Globalization.CultureInfo.InvariantCulture, kind, "b")));
+            byte[] a = File.ReadAllBytes(folder.PathOf(string.Format(System.Globalization.CultureInfo.InvariantCulture, kind, "a")));
+            byte[] b = File.ReadAllBytes(folder.PathOf(string.Format(System.Globalization.CultureInfo.InvariantCulture, kind, "b")));
             Assert.True(a.AsSpan().SequenceEqual(b), $"{kind}: two runs with the same seed differ");
         }
 
-        Assert.False(File.ReadAllBytes(folder.File("ha.csv")).AsSpan().SequenceEqual(File.ReadAllBytes(folder.File("hc.csv"))), "another seed must give other noise");
+        Assert.False(File.ReadAllBytes(folder.PathOf("ha.csv")).AsSpan().SequenceEqual(File.ReadAllBytes(folder.PathOf("hc.csv"))), "another seed must give other noise");
     }
 
     [Theory]
@@ -83,15 +83,15 @@ public sealed class SimCliTests
         string scenario = SampleScenarios.Copy(folder, "clean.scenario.json", step: "00:00:01");
         using var cts = new CancellationTokenSource();
         var error = new StringWriter();
-        var settings = new RunSettings(scenario, folder.File("h.csv"), folder.File("l.csv"), folder.File("t.json"), null, Speed: 3600);
+        var settings = new RunSettings(scenario, folder.PathOf("h.csv"), folder.PathOf("l.csv"), folder.PathOf("t.json"), null, Speed: 3600);
         Task<int> run = RunHandler.RunAsync(settings, TextWriter.Synchronized(error), TimeProvider.System, cts.Token);
         await Task.Delay(TimeSpan.FromSeconds(1));
         await cts.CancelAsync();
         Assert.Equal(0, await run.WaitAsync(TimeSpan.FromSeconds(30)));
 
         Assert.Contains("stopped at", error.ToString(), StringComparison.Ordinal);
-        Assert.NotEmpty(HistoryCsvReader.Read(folder.File("h.csv")));
-        Assert.NotEmpty(TruthFileReader.Load(folder.File("t.json")).ForUnit("X300")!.Samples);
+        Assert.NotEmpty(HistoryCsvReader.Read(folder.PathOf("h.csv")));
+        Assert.NotEmpty(TruthFileReader.Load(folder.PathOf("t.json")).ForUnit("X300")!.Samples);
     }
 
     internal static async Task<(int Code, string Error)> RunAsync(params string[] args)

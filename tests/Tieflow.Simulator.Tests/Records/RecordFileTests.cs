@@ -13,7 +13,7 @@ public sealed class RecordFileTests
     public bool History_RoundTripsEveryDoubleExactly(double value, int milliseconds)
     {
         using var folder = new TempFolder();
-        string path = folder.File("h.csv");
+        string path = folder.PathOf("h.csv");
         DateTimeOffset time = T0.AddMilliseconds(Math.Abs(milliseconds % 10_000_000));
         var sample = new SignalSample("FI-301", time, double.IsFinite(value) ? value : 0, SignalQuality.Uncertain);
         using (HistoryCsvWriter w = HistoryCsvWriter.Create(path))
@@ -48,7 +48,7 @@ public sealed class RecordFileTests
     public void History_BadLines_NameFileLineAndColumn(string content, string where, string expected)
     {
         using var folder = new TempFolder();
-        string path = folder.File("h.csv");
+        string path = folder.PathOf("h.csv");
         File.WriteAllText(path, content);
         InputException e = Assert.Throws<InputException>(() => HistoryCsvReader.Read(path).ToList());
         InputProblem p = Assert.Single(e.Problems);
@@ -61,7 +61,7 @@ public sealed class RecordFileTests
     public void Labs_RoundTrip_AndRejectAResultReportedBeforeItsSample()
     {
         using var folder = new TempFolder();
-        string path = folder.File("l.csv");
+        string path = folder.PathOf("l.csv");
         var result = new LabResult(T0, T0.AddMinutes(90), "raffinate", "acetone", 0.07624602251906037);
         using (LabCsvWriter w = LabCsvWriter.Create(path))
         {
@@ -84,7 +84,7 @@ public sealed class RecordFileTests
     public void Truth_RoundTripsInBothForms(int units)
     {
         using var folder = new TempFolder();
-        string path = folder.File("t.json");
+        string path = folder.PathOf("t.json");
         var faults = new TruthFault[] { new(FaultKind.SensorBias, null, "FI-301", T0, null), new(FaultKind.Entrainment, 2, null, T0, T0.AddHours(8)) };
         TruthSample Sample(int i) => new(T0.AddMinutes(i), [0.92, 0.9 - (i * 1e-3)], 0.07624602251906037 + i, [0, 0.02], 4.5, units == 2 ? 3.25 : null);
         string[] ids = units == 1 ? ["X300"] : ["X300", "C200"];
@@ -122,7 +122,7 @@ public sealed class RecordFileTests
     public void Truth_Reader_ListsEveryProblemWithItsPath()
     {
         using var folder = new TempFolder();
-        string path = folder.File("t.json");
+        string path = folder.PathOf("t.json");
         File.WriteAllText(path, """{ "faults": [{ "kind": "leak", "start": "2026-03-02T00:00:00Z" }], "samples": [{ "time": "yesterday", "stageEfficiency": [0.9], "raffinateSolute": 0.1, "entrainment": [0], "solventLossRate": 0, "extra": 1 }] }""");
         InputException e = Assert.Throws<InputException>(() => TruthFileReader.Load(path));
         Assert.Contains(e.Problems, p => p.JsonPath == "$.faults[0].kind");

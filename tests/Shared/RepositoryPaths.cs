@@ -1,11 +1,13 @@
-namespace Tieflow.Service.Tests;
+namespace Tieflow.Tests.Shared;
 
-/// <summary>Finds folders of the repository from the test's output folder.</summary>
+/// <summary>Finds folders of the repository from the test's output folder (linked into every test project that needs it).</summary>
 internal static class RepositoryPaths
 {
     public static string Root { get; } = FindRoot();
 
     public static string ConfigSamples => Path.Combine(Root, "config-samples");
+
+    public static string Schemas => Path.Combine(Root, "schemas");
 
     private static string FindRoot()
     {

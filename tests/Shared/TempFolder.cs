@@ -1,6 +1,6 @@
-namespace Tieflow.Service.Tests;
+namespace Tieflow.Tests.Shared;
 
-/// <summary>A temporary folder for input files, deleted on dispose.</summary>
+/// <summary>A temporary folder for test files, deleted on dispose (linked into every test project that needs it).</summary>
 internal sealed class TempFolder : IDisposable
 {
     public TempFolder()
@@ -11,9 +11,13 @@ internal sealed class TempFolder : IDisposable
 
     public string Path { get; }
 
+    /// <summary>The full path of a file in the folder (not created).</summary>
+    public string PathOf(string name) => System.IO.Path.Combine(Path, name);
+
+    /// <summary>Writes a file into the folder and returns its full path.</summary>
     public string Write(string name, string content)
     {
-        string full = System.IO.Path.Combine(Path, name);
+        string full = PathOf(name);
         File.WriteAllText(full, content);
         return full;
     }
