@@ -48,7 +48,6 @@ public sealed class UnitAnalyzer
     private readonly List<(DateTimeOffset Start, DateTimeOffset End, double Value, double Sigma)> _predictions = [];
     private readonly List<LabComparison> _labComparisons = [];
     private readonly List<(DateTimeOffset Time, double Value)> _softTrace = [];
-    private readonly CascadeSolver _solver;
     private readonly string _soluteId;
     private readonly string _softSensorName;
     private double _labBias;
@@ -82,7 +81,6 @@ public sealed class UnitAnalyzer
         _model = new UnitModel(unit);
         _reconciler = new WindowReconciler(_model, new WindowReconcilerSettings { NotDeterminableSigma = _settings.NotDeterminableSigma });
         _alerts = new AlertBook(unit.Id, _settings);
-        _solver = new CascadeSolver(unit.Equilibrium, unit.Nominal.TemperatureKelvin);
         _soluteId = _model.ComponentIds[0];
         _softSensorName = $"raffinate-{_soluteId}";
         foreach (Instrument i in unit.Instruments)
@@ -438,7 +436,7 @@ public sealed class UnitAnalyzer
         double raffinateSigma = final.Fraction("raffinate", _soluteId).Sigma;
         if (anyUnobserved && steady)
         {
-            FitSharedEfficiency(feed, solvent, raffinateSolute, raffinateSigma, temperature, efficiencies, end);
+            FitSharedEfficiency(feed, solvent, raffinateSolute, raffinateSigma, temperature, efficiencies);
         }
 
         bool keyAnalyzerFailed = problemTags.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction);
@@ -649,7 +647,7 @@ public sealed class UnitAnalyzer
         return new MaterialStream(flowValue, new Ternary(Fraction(0), Fraction(1), Fraction(2)).Normalized());
     }
 
-    private void FitSharedEfficiency(MaterialStream feed, MaterialStream solvent, double raffinateSolute, double raffinateSigma, double temperature, EstimatedValue?[] efficiencies, DateTimeOffset end)
+    private void FitSharedEfficiency(MaterialStream feed, MaterialStream solvent, double raffinateSolute, double raffinateSigma, double temperature, EstimatedValue?[] efficiencies)
     {
         var free = Enumerable.Range(0, _unit.Stages).Where(k => efficiencies[k] is null).ToArray();
         var solver = new CascadeSolver(_unit.Equilibrium, temperature);
@@ -728,7 +726,7 @@ public sealed class UnitAnalyzer
         }
         catch (Exception ex) when (ex is CascadeException or EquilibriumException or InfeasibleSpecificationException)
         {
-            _ = end;
+            // No cascade through this window's streams: the unobserved stages keep no efficiency for it.
         }
     }
 

@@ -23,6 +23,9 @@ public sealed class WindowReconciler
     private readonly UnitModel _model;
     private readonly WindowReconcilerSettings _settings;
 
+    // The nominal cascade starts the solute of a saturated stream that no analyzer measures; solved once per unit.
+    private readonly CascadeResult _nominal;
+
     /// <summary>Creates a reconciler for a unit.</summary>
     /// <param name="model">The unit model.</param>
     /// <param name="settings">Settings; defaults when null.</param>
@@ -30,6 +33,8 @@ public sealed class WindowReconciler
     {
         _model = model ?? throw new ArgumentNullException(nameof(model));
         _settings = settings ?? new WindowReconcilerSettings();
+        UnitDescription unit = model.Unit;
+        _nominal = new CascadeSolver(unit.Equilibrium, unit.Nominal.TemperatureKelvin).Solve(unit.Arrangement, unit.Nominal.Feed, unit.Nominal.Solvent, unit.Nominal.Efficiencies);
     }
 
     /// <summary>Reconciles a window.</summary>
@@ -61,13 +66,12 @@ public sealed class WindowReconciler
         }
 
         // Start every saturated stream's solute at its measurement or at the nominal cascade.
-        CascadeResult nominal = new CascadeSolver(eq, unit.Nominal.TemperatureKelvin).Solve(unit.Arrangement, unit.Nominal.Feed, unit.Nominal.Solvent, unit.Nominal.Efficiencies);
         var soluteGuess = new Dictionary<string, double>(StringComparer.Ordinal);
         foreach ((string id, StreamPhase phase) in saturated)
         {
             soluteGuess[id] = byKey.TryGetValue(QuantityKey.FractionOf(id, solute), out WindowMeasurement? m)
                 ? m.Value
-                : NominalSolute(nominal, id, phase);
+                : NominalSolute(_nominal, id, phase);
         }
 
         var fixedMeasurements = new List<Measurement>(measurements.Count + 6);
@@ -77,8 +81,8 @@ public sealed class WindowReconciler
         }
 
         // Fresh solvent and feed: their minor fractions as known from the nominal operation.
-        AddKnown(fixedMeasurements, byKey, "solvent", unit.Nominal.Solvent.Composition, [solute, diluent], _model.ComponentIds);
-        AddKnown(fixedMeasurements, byKey, "feed", unit.Nominal.Feed.Composition, [solvent], _model.ComponentIds);
+        AddKnown(fixedMeasurements, byKey, "solvent", unit.Nominal.Solvent.Composition, [ComponentRole.Solute, ComponentRole.Diluent]);
+        AddKnown(fixedMeasurements, byKey, "feed", unit.Nominal.Feed.Composition, [ComponentRole.Solvent]);
 
         ReconciliationReport? report = null;
         int iteration = 0;
@@ -190,15 +194,14 @@ public sealed class WindowReconciler
         return phase == StreamPhase.Raffinate ? nominal.Raffinate.Composition.Solute : nominal.Extract.Composition.Solute;
     }
 
-    private void AddKnown(List<Measurement> list, Dictionary<QuantityKey, WindowMeasurement> measured, string stream, Ternary composition, string[] components, IReadOnlyList<string> ids)
+    private void AddKnown(List<Measurement> list, Dictionary<QuantityKey, WindowMeasurement> measured, string stream, Ternary composition, ComponentRole[] roles)
     {
-        foreach (string c in components)
+        foreach (ComponentRole role in roles)
         {
-            QuantityKey key = QuantityKey.FractionOf(stream, c);
+            QuantityKey key = QuantityKey.FractionOf(stream, _model.ComponentIds[(int)role]);
             if (!measured.ContainsKey(key))
             {
-                int index = ids.ToList().IndexOf(c);
-                list.Add(new Measurement(key, composition[index], _settings.KnownCompositionSigma));
+                list.Add(new Measurement(key, composition[role], _settings.KnownCompositionSigma));
             }
         }
     }

@@ -13,13 +13,11 @@ namespace Tieflow.Service.Replay;
 /// </summary>
 internal sealed class ReplayRunner
 {
-    private readonly PlantDescription _plant;
     private readonly Dictionary<string, UnitAnalyzer> _byTag = new(StringComparer.Ordinal);
     private readonly List<UnitAnalyzer> _analyzers = [];
 
     public ReplayRunner(PlantDescription plant)
     {
-        _plant = plant;
         foreach (UnitDescription u in plant.Units)
         {
             var a = new UnitAnalyzer(u);
@@ -135,6 +133,4 @@ internal sealed class ReplayRunner
         // Without a unit prefix a lab result belongs to the unit whose system has the component.
         return _analyzers.Where(a => a.Model.ComponentIds.Contains(lab.Component));
     }
-
-    public PlantDescription Plant => _plant;
 }
