@@ -1,65 +1,40 @@
 using System.Globalization;
-using System.Text.RegularExpressions;
 
 namespace Tieflow.Files;
 
 /// <summary>
 /// Durations as people write them: <c>500ms</c>, <c>30s</c>, <c>15m</c>, <c>2h</c>, <c>1d</c> (a number, decimals
-/// allowed, and a unit), or .NET TimeSpan text (<c>00:00:30</c>, <c>1.06:00:00</c>). TimeSpan text with more than 23
-/// hours (<c>30:00:00</c>, which .NET would read as 30 days) is refused as ambiguous.
+/// allowed, and a unit), or .NET TimeSpan text (<c>00:00:30</c>, <c>1.06:00:00</c>): the command line's view of the one
+/// duration grammar of <see cref="JsonDuration"/>. TimeSpan text with more than 23 hours (<c>30:00:00</c>, which .NET
+/// would read as 30 days) is refused.
 /// </summary>
-public static partial class DurationText
+public static class DurationText
 {
     /// <summary>The forms accepted, for messages.</summary>
     public const string Forms = "a number with a unit (500ms, 30s, 15m, 2h, 1d) or TimeSpan text (00:00:30, 1.06:00:00)";
 
-    /// <summary>Parses <paramref name="text"/>; on failure <paramref name="error"/> says what was wrong and shows both forms.</summary>
+    /// <summary>
+    /// Parses <paramref name="text"/> with the grammar of the input files (<see cref="JsonDuration.TryParse"/>), so that the
+    /// command line and the files accept the same durations; on failure <paramref name="error"/> says what was wrong and
+    /// shows both forms.
+    /// </summary>
     public static bool TryParse(string? text, out TimeSpan value, out string error)
     {
-        value = default;
         error = string.Empty;
         string s = text?.Trim() ?? string.Empty;
         if (s.Length == 0)
         {
+            value = default;
             error = $"a duration is missing; expected {Forms}";
             return false;
         }
 
-        Match m = WithUnit().Match(s);
-        if (m.Success)
-        {
-            double number = double.Parse(m.Groups[1].Value, NumberStyles.Float, CultureInfo.InvariantCulture);
-            double ms = m.Groups[2].Value switch
-            {
-                "ms" => number,
-                "s" => number * 1000,
-                "m" or "min" => number * 60_000,
-                "h" => number * 3_600_000,
-                _ => number * 86_400_000,
-            };
-            if (!double.IsFinite(ms) || ms > TimeSpan.MaxValue.TotalMilliseconds)
-            {
-                error = $"'{s}' is too long a duration";
-                return false;
-            }
-
-            value = TimeSpan.FromMilliseconds(ms);
-            return true;
-        }
-
-        Match hours = HoursPart().Match(s);
-        if (hours.Success && int.Parse(hours.Groups[1].Value, CultureInfo.InvariantCulture) > 23)
-        {
-            error = $"'{s}' is ambiguous (TimeSpan text reads hours above 23 as days); write {hours.Groups[1].Value}h or the days explicitly, e.g. 1.06:00:00";
-            return false;
-        }
-
-        if (s.Contains(':', StringComparison.Ordinal) && TimeSpan.TryParse(s, CultureInfo.InvariantCulture, out value))
+        if (JsonDuration.TryParse(s, out value, out string why))
         {
             return true;
         }
 
-        error = $"'{s}' is not a duration; expected {Forms}";
+        error = $"'{s}' is not a duration{why}; expected {Forms}";
         return false;
     }
 
@@ -78,10 +53,4 @@ public static partial class DurationText
             _ => $"{value.TotalHours.ToString("0.###", CultureInfo.InvariantCulture)}h",
         };
     }
-
-    [GeneratedRegex(@"^([0-9]+(?:\.[0-9]+)?)\s*(ms|s|min|m|h|d)$")]
-    private static partial Regex WithUnit();
-
-    [GeneratedRegex(@"^-?([0-9]+):[0-9]+(:[0-9]+(\.[0-9]+)?)?$")]
-    private static partial Regex HoursPart();
 }
