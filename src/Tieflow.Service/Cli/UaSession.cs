@@ -238,7 +238,8 @@ internal static class UaSession
         return $"the server certificate of {settings.Endpoint} was refused: {e.Message}";
     }
 
-    private static bool IsRefusal(StatusCode status) =>
+    /// <summary>The server is there and said no (access, identity, security, certificate): another attempt cannot help.</summary>
+    internal static bool IsRefusal(StatusCode status) =>
         status.Is(StatusCodes.BadUserAccessDenied) || status.Is(StatusCodes.BadIdentityTokenInvalid) ||
         status.Is(StatusCodes.BadIdentityTokenRejected) || status.Is(StatusCodes.BadTooManySessions) ||
         status.Is(StatusCodes.BadSecurityPolicyRejected) || status.Is(StatusCodes.BadSecurityModeRejected) ||
