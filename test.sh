@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Runs every test project of Tieflow and prints a closing line "N passed, N failed".
-# Installs what the tests need when it is missing (npm packages of the OPC UA interop peer, victoria-metrics),
+# Installs what the tests need when it is missing (npm packages of the OPC UA interop peer, victoria-metrics,
+# docker-compose to validate the deployment file),
 # builds once, runs the test projects, and exits non-zero on any failure.
 set -uo pipefail
 cd "$(dirname "$0")"
@@ -21,6 +22,7 @@ ensure_deb() {
 }
 ensure_deb node nodejs
 ensure_deb victoria-metrics victoria-metrics
+ensure_deb docker-compose docker-compose
 
 # npm packages of the interop peer (pinned in tests/interop/package-lock.json).
 if [ -f tests/interop/package.json ] && [ ! -d tests/interop/node_modules ]; then

@@ -57,6 +57,9 @@ internal sealed partial class LabFolderSource : ISignalSource
     {
         ArgumentNullException.ThrowIfNull(output);
         string folder = Prepare();
+
+        // A periodic timer made before the first look keeps the polls on the clock's grid, however long a look takes.
+        using var timer = new PeriodicTimer(_options.PollInterval, _time);
         while (!cancellationToken.IsCancellationRequested)
         {
             try
@@ -76,7 +79,10 @@ internal sealed partial class LabFolderSource : ISignalSource
             Interlocked.Increment(ref _polls);
             try
             {
-                await Task.Delay(_options.PollInterval, _time, cancellationToken).ConfigureAwait(false);
+                if (!await timer.WaitForNextTickAsync(cancellationToken).ConfigureAwait(false))
+                {
+                    return;
+                }
             }
             catch (OperationCanceledException)
             {
