@@ -403,12 +403,15 @@ internal sealed partial class OpcUaSource : ISignalSource
                     return;
                 }
             }
-
-            inbox.Writer.TryWrite(Ended.Instance);
         }
         catch (OperationCanceledException) when (stopping.IsCancellationRequested)
         {
             // The pump has stopped.
+        }
+        finally
+        {
+            // However the events ended, the pump learns of it (after a stop the inbox is closed and this does nothing).
+            inbox.Writer.TryWrite(Ended.Instance);
         }
     }
 
@@ -467,7 +470,8 @@ internal sealed partial class OpcUaSource : ISignalSource
 
         public UaSubscription? Subscription { get; set; }
 
-        public Channel<object> Inbox { get; } = Channel.CreateUnbounded<object>(new UnboundedChannelOptions { SingleReader = true });
+        // Not SingleReader: that channel cannot count what waits in it, and the forwarder needs the count.
+        public Channel<object> Inbox { get; } = Channel.CreateUnbounded<object>();
 
         public List<string> Notes { get; } = [];
 
