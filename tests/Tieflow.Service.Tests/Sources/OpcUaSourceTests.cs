@@ -174,6 +174,7 @@ public sealed class OpcUaSourceTests : IDisposable
         var down = (SourceStateChanged)events[lost];
         var up = (SourceStateChanged)events[resumed];
         Assert.True(up.Time > down.Time, $"the first sample after the gap ({up.Time}) is later than the last before it ({down.Time})");
+        Assert.Contains("No data or keep-alive from the server", down.Reason, StringComparison.Ordinal);
         Assert.Contains("first sample after the gap", up.Reason, StringComparison.Ordinal);
         await log.StopAsync();
     }
