@@ -215,7 +215,11 @@ internal sealed partial class OpcUaSource : ISignalSource
                 Timestamps = TimestampsToReturn.Both,
             }, prepared.Nodes, cancellationToken).ConfigureAwait(false);
             connection.Subscription = subscription;
-            CheckNodes(prepared, subscription);
+            if (CheckNodes(prepared, subscription) is { } degraded)
+            {
+                connection.Notes.Add(degraded);
+            }
+
             if (settings.Security is null && client.Security?.Mode == MessageSecurityMode.None)
             {
                 connection.Notes.Add($"{settings.Endpoint} offers no secured endpoint that Tieflow supports; connected without security");
@@ -245,14 +249,15 @@ internal sealed partial class OpcUaSource : ISignalSource
         }
     }
 
-    private void CheckNodes(Prepared prepared, UaSubscription subscription)
+    /// <summary>Fails when the plant does not fit the server; otherwise the note that the source runs degraded, or null.</summary>
+    private string? CheckNodes(Prepared prepared, UaSubscription subscription)
     {
         Dictionary<string, string> nodeOf = prepared.Nodes.ToDictionary(n => n.Key!, n => n.Node.ToString(), StringComparer.Ordinal);
         List<MonitoredNodeResult> failed = [.. subscription.Items.Where(i => i.Status.IsBad)];
         Volatile.Write(ref _missing, failed.Select(f => f.Key).ToArray());
         if (failed.Count == 0)
         {
-            return;
+            return null;
         }
 
         string list = string.Join(", ", failed.Select(f => $"{f.Key} ({nodeOf[f.Key]}: {f.Status})"));
@@ -265,6 +270,7 @@ internal sealed partial class OpcUaSource : ISignalSource
         }
 
         LogMissingNodes(_logger, prepared.Endpoint, failed.Count, subscription.Items.Count, list);
+        return $"degraded: {failed.Count} of {subscription.Items.Count} instruments have no node on the server and are not watched: {list}";
     }
 
     /// <summary>Turns what the client reports into source events, in order, until the connection ends or the source is stopped.</summary>
@@ -274,10 +280,6 @@ internal sealed partial class OpcUaSource : ISignalSource
         Task forwarding = ForwardAsync(subscription, connection.Inbox, connection.Stopping.Token);
         state.ClientConnected = true;
         state.Notes.AddRange(connection.Notes);
-        if (MissingTags.Count > 0)
-        {
-            state.Notes.Add($"degraded: {MissingTags.Count} of {subscription.Items.Count} instruments have no node on the server and are not watched: {string.Join(", ", MissingTags)}");
-        }
 
         try
         {
@@ -435,7 +437,7 @@ internal sealed partial class OpcUaSource : ISignalSource
     [LoggerMessage(EventId = 4103, Level = LogLevel.Warning, Message = "OPC UA source {Endpoint} lost the plant: {Reason}")]
     private static partial void LogLost(ILogger logger, string? endpoint, string reason);
 
-    [LoggerMessage(EventId = 4104, Level = LogLevel.Error, Message = "{Endpoint}: {Count} of {Total} instrument nodes cannot be watched; the others are: {Nodes}")]
+    [LoggerMessage(EventId = 4104, Level = LogLevel.Error, Message = "{Endpoint}: {Count} of {Total} instrument nodes cannot be watched, the others are: {Nodes}")]
     private static partial void LogMissingNodes(ILogger logger, string endpoint, int count, int total, string nodes);
 
     private sealed record Prepared(UaSession.SessionSettings Settings, IReadOnlyList<MonitoredNode> Nodes)
