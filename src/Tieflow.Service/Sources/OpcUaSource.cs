@@ -288,7 +288,7 @@ internal sealed partial class OpcUaSource : ISignalSource
                 switch (item)
                 {
                     case UaDataChange change:
-                        SignalSample sample = ToSample(change);
+                        SignalSample sample = ToSample(change, _time.GetUtcNow());
                         if (!state.Reported && state.ClientConnected)
                         {
                             await ReportConnectedAsync(state, sample, output, cancellationToken).ConfigureAwait(false);
@@ -365,11 +365,16 @@ internal sealed partial class OpcUaSource : ISignalSource
         await output.WriteAsync(new SourceStateChanged(SourceState.Disconnected, state.LastSample ?? now, reason), cancellationToken).ConfigureAwait(false);
     }
 
-    private SignalSample ToSample(UaDataChange change)
+    /// <summary>
+    /// A data change as a sample: the value unchanged (the instrument's engineering unit), the source timestamp (else
+    /// the server's, else <paramref name="now"/>), and the quality from the status code's severity; a value that is not
+    /// a finite number is bad.
+    /// </summary>
+    internal static SignalSample ToSample(UaDataChange change, DateTimeOffset now)
     {
         DateTimeOffset time = change.SourceTime != DateTime.MinValue ? new DateTimeOffset(DateTime.SpecifyKind(change.SourceTime, DateTimeKind.Utc))
             : change.ServerTime != DateTime.MinValue ? new DateTimeOffset(DateTime.SpecifyKind(change.ServerTime, DateTimeKind.Utc))
-            : _time.GetUtcNow();
+            : now;
         double value = double.NaN;
         bool numeric = !change.Value.IsArray && change.Value.TryGetDouble(out value);
 
