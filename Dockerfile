@@ -22,6 +22,8 @@ RUN dotnet restore src/Tieflow.Service/Tieflow.Service.csproj \
 COPY src/ src/
 COPY simulator/ simulator/
 COPY schemas/ schemas/
+# The samples too: the demo configuration may be built into the executables.
+COPY config-samples/ config-samples/
 RUN dotnet publish src/Tieflow.Service/Tieflow.Service.csproj -c Release --no-restore -o /out/tieflow \
  && dotnet publish simulator/Tieflow.Simulator/Tieflow.Simulator.csproj -c Release --no-restore -o /out/tieflow-sim
 
