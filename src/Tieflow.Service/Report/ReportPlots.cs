@@ -24,7 +24,7 @@ internal sealed record ReportPlot(string Id, string Title, string Svg, string Ca
 internal static partial class ReportPlots
 {
     public const int Width = 900;
-    public const int Height = 300;
+    public const int Height = 340;
     private const string FontName = "DejaVu Sans";
     private const int MarkersPerSeries = 24;
     private static readonly Color Ink = Colors.Black;
@@ -136,7 +136,7 @@ internal static partial class ReportPlots
     public static ReportPlot AlertTimeline(UnitReport u, string id, DateTimeOffset? from, DateTimeOffset? to)
     {
         string[] rows = [.. u.Alerts.Select(a => a.Label).Distinct(StringComparer.Ordinal)];
-        int height = Math.Max(160, 70 + (26 * rows.Length));
+        int height = Math.Max(190, 110 + (26 * rows.Length));
         Plot plot = NewTimePlot(string.Empty);
         double end = X(to ?? u.To ?? DateTimeOffset.UnixEpoch);
         double start = X(from ?? u.From ?? DateTimeOffset.UnixEpoch);
@@ -224,7 +224,24 @@ internal static partial class ReportPlots
             legend.Add(LineItem($"binodal at {t:F1} K", Ink, MarkerShape.None, width: 2));
         }
 
-        IReadOnlyList<TieLine> tieLines = model is TieLineTableModel table ? table.TieLines : EnvelopeTrace.TieLines(model, t, 6, 0.9);
+        // An isotherm of immiscible liquids says nothing far beyond the solute fractions in use: its tie lines are traced
+        // up to three times the largest solute fraction of the feed and the shown streams.
+        double reach = 0.9;
+        if (model is Core.Equilibrium.Distribution.DistributionModel)
+        {
+            double largest = unit.Nominal.Feed.Composition.Solute;
+            foreach (StreamRecord s in u.LastSteady?.Streams ?? [])
+            {
+                if (TryComposition(unit.System, s, out Ternary x))
+                {
+                    largest = Math.Max(largest, x.Solute);
+                }
+            }
+
+            reach = Math.Clamp(3 * largest, 0.01, 0.9);
+        }
+
+        IReadOnlyList<TieLine> tieLines = model is TieLineTableModel table ? table.TieLines : EnvelopeTrace.TieLines(model, t, 6, reach);
         foreach (TieLine l in tieLines)
         {
             Dashes(plot, Project(l.Raffinate), Project(l.Extract), 0.012, Grey, 1);
@@ -387,7 +404,7 @@ internal static partial class ReportPlots
         }
     }
 
-    private static void Finish(Plot plot, List<LegendItem> legend, string? emptyNote, Alignment where = Alignment.UpperLeft)
+    private static void Finish(Plot plot, List<LegendItem> legend, string? emptyNote, Alignment? inside = null)
     {
         if (emptyNote is not null)
         {
@@ -402,13 +419,21 @@ internal static partial class ReportPlots
         if (legend.Count > 0)
         {
             plot.Legend.ManualItems.AddRange(legend);
-            plot.Legend.Alignment = where;
             plot.Legend.FontSize = 11;
             plot.Legend.FontName = FontName;
             plot.Legend.OutlineColor = LightGrey;
             plot.Legend.ShadowColor = Colors.Transparent;
             plot.Legend.BackgroundColor = new Color(255, 255, 255, 230);
-            plot.ShowLegend();
+            if (inside is { } where)
+            {
+                plot.Legend.Alignment = where;
+                plot.ShowLegend();
+            }
+            else
+            {
+                // Below the data, in a row, so that it never hides a curve.
+                plot.ShowLegend(Edge.Bottom);
+            }
         }
 
         // After everything is added: the default font resolves to a serif one on some machines.
