@@ -140,6 +140,9 @@ internal sealed class UnitReport
 
     public TimeSpan Window { get; }
 
+    /// <summary>How much of the history is kept.</summary>
+    public ReportLimits Limits => _limits;
+
     /// <summary>Stage efficiency (Murphree, raffinate) with its sigma, per stage, steady windows only.</summary>
     public IReadOnlyDictionary<int, DecimatedSeries> Efficiency => _efficiency;
 

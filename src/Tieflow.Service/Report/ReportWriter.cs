@@ -193,7 +193,7 @@ internal static class ReportWriter
     private static void LabTable(StringBuilder h, UnitReport u, string id)
     {
         IReadOnlyList<LabComparison> all = u.Summary?.LabComparisons ?? [];
-        int skip = Math.Max(0, all.Count - 60);
+        int skip = Math.Max(0, all.Count - u.Limits.LabRows);
         h.Append("<table id=\"table-").Append(id).Append("-labs\">\n<caption>Lab results of the final raffinate against the soft sensor at the sampling time")
             .Append(skip > 0 ? $" (the latest {all.Count - skip} of {all.Count})" : string.Empty).Append("</caption>\n")
             .Append("<thead><tr><th>sampled</th><th>reported</th><th class=\"num\">lab</th><th class=\"num\">soft sensor</th><th class=\"num\">difference</th><th class=\"num\">in sigma</th></tr></thead>\n<tbody>\n");

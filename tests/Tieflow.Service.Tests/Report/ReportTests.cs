@@ -99,6 +99,27 @@ public sealed partial class ReportTests : IClassFixture<ReportTests.Fixture>
     }
 
     [Fact]
+    public void Report_OfAnEmptyHistory_StillHasEveryPlotAndTable_SayingThereIsNothing()
+    {
+        using var folder = new TempFolder();
+        SimulatedReport r = _fixture.Report;
+        string history = folder.Write("empty.history.csv", "time,tag,value,quality\n");
+        string dir = Path.Combine(folder.Path, "report");
+
+        CliRun run = CliRun.Of("replay", "--plant", r.PlantPath, "--history", history, "--report", dir);
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        string html = File.ReadAllText(Path.Combine(dir, "index.html"));
+        foreach (string id in r.PlotIds)
+        {
+            Assert.Contains($"id=\"{id}\"", html, StringComparison.Ordinal);
+        }
+
+        Assert.Contains("no alert was raised", html, StringComparison.Ordinal);
+        Assert.Contains("no steady window", html, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void DecimatedSeries_KeepsAtMostItsCapacity_AndTheMean()
     {
         var s = new DecimatedSeries(100, TimeSpan.FromMinutes(10));
