@@ -30,21 +30,7 @@ public sealed class ReportInBrowserTests : IClassFixture<ReportInBrowserTests.Fi
         Assert.True(report.Run.ExitCode == 0, report.Run.Error);
         IBrowser browser = await _fixture.BrowserAsync();
         _output.WriteLine($"browser {browser.Version}");
-        IPage page = await browser.NewPageAsync(new BrowserNewPageOptions { ViewportSize = new ViewportSize { Width = 1100, Height = 900 } });
-        var problems = new List<string>();
-        page.Console += (_, m) =>
-        {
-            if (m.Type is "error" or "warning")
-            {
-                problems.Add($"console {m.Type}: {m.Text}");
-            }
-        };
-        page.PageError += (_, e) => problems.Add($"page error: {e}");
-        page.RequestFailed += (_, r) => problems.Add($"request failed: {r.Url} ({r.Failure})");
-        var requests = new List<string>();
-        page.Request += (_, r) => requests.Add(r.Url);
-
-        IResponse? response = await page.GotoAsync(new Uri(report.Page).AbsoluteUri, new PageGotoOptions { WaitUntil = WaitUntilState.Load });
+        (IPage page, IResponse? response, List<string> problems, List<string> requests) = await OpenAsync(browser, report.Page);
 
         Assert.NotNull(response);
         Assert.True(response.Ok, $"status {response.Status}");
@@ -83,6 +69,67 @@ public sealed class ReportInBrowserTests : IClassFixture<ReportInBrowserTests.Fi
 
         Assert.Empty(problems);
         await page.CloseAsync();
+    }
+
+    [Fact]
+    public async Task Harness_CatchesScriptErrors_ConsoleErrors_AndFailedRequests()
+    {
+        // The checks above are only as good as the listeners: a page with each kind of fault must be caught.
+        using var folder = new TempFolder();
+        string broken = folder.Write("broken.html", """
+            <!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><title>broken</title></head>
+            <body><img src="missing.png" alt=""><script>console.error("logged"); throw new Error("thrown");</script></body></html>
+            """);
+        IBrowser browser = await _fixture.BrowserAsync();
+
+        (IPage page, _, List<string> problems, _) = await OpenAsync(browser, broken);
+
+        Assert.Contains(problems, p => p.StartsWith("page error:", StringComparison.Ordinal) && p.Contains("thrown", StringComparison.Ordinal));
+        Assert.Contains(problems, p => p.StartsWith("console error:", StringComparison.Ordinal) && p.Contains("logged", StringComparison.Ordinal));
+        Assert.Contains(problems, p => p.StartsWith("request failed:", StringComparison.Ordinal) && p.Contains("missing.png", StringComparison.Ordinal));
+        await page.CloseAsync();
+    }
+
+    /// <summary>Opens a file with every listener subscribed before the navigation.</summary>
+    private static async Task<(IPage Page, IResponse? Response, List<string> Problems, List<string> Requests)> OpenAsync(IBrowser browser, string file)
+    {
+        IPage page = await browser.NewPageAsync(new BrowserNewPageOptions { ViewportSize = new ViewportSize { Width = 1100, Height = 900 } });
+        var problems = new List<string>();
+        var requests = new List<string>();
+        page.Console += (_, m) =>
+        {
+            if (m.Type is "error" or "warning")
+            {
+                lock (problems)
+                {
+                    problems.Add($"console {m.Type}: {m.Text}");
+                }
+            }
+        };
+        page.PageError += (_, e) =>
+        {
+            lock (problems)
+            {
+                problems.Add($"page error: {e}");
+            }
+        };
+        page.RequestFailed += (_, r) =>
+        {
+            lock (problems)
+            {
+                problems.Add($"request failed: {r.Url} ({r.Failure})");
+            }
+        };
+        page.Request += (_, r) =>
+        {
+            lock (requests)
+            {
+                requests.Add(r.Url);
+            }
+        };
+
+        IResponse? response = await page.GotoAsync(new Uri(file).AbsoluteUri, new PageGotoOptions { WaitUntil = WaitUntilState.Load });
+        return (page, response, problems, requests);
     }
 
     /// <summary>One simulated replay with its report, and one browser, for the class.</summary>
