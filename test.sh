@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Runs every test project of Tieflow and prints a closing line "N passed, N failed".
 # Installs what the tests need when it is missing (npm packages of the OPC UA interop peer, victoria-metrics,
-# docker-compose to validate the deployment file),
+# docker-compose to validate the deployment file, the headless browser and the fonts of the report tests),
 # builds once, runs the test projects, and exits non-zero on any failure.
 set -uo pipefail
 cd "$(dirname "$0")"
@@ -10,10 +10,14 @@ export DOTNET_CLI_TELEMETRY_OPTOUT=1 DOTNET_NOLOGO=1 DOTNET_SKIP_FIRST_TIME_EXPE
 
 say() { printf 'test.sh: %s\n' "$*" >&2; }
 
-# Debian packages some tests need; installed only when missing and when apt is usable.
+# Debian packages some tests need; installed only when missing and when apt is usable. The first argument is a
+# command on the PATH or the absolute path of a file the package installs.
 ensure_deb() {
   local bin=$1 pkg=$2
-  command -v "$bin" >/dev/null 2>&1 && return 0
+  case "$bin" in
+    /*) [ -e "$bin" ] && return 0 ;;
+    *) command -v "$bin" >/dev/null 2>&1 && return 0 ;;
+  esac
   if command -v apt-get >/dev/null 2>&1 && [ "$(id -u)" = 0 ]; then
     say "installing Debian package $pkg"
     (apt-get install -y -q "$pkg" >/dev/null 2>&1 || { apt-get update -q >/dev/null 2>&1 && apt-get install -y -q "$pkg" >/dev/null 2>&1; }) \
@@ -23,6 +27,9 @@ ensure_deb() {
 ensure_deb node nodejs
 ensure_deb victoria-metrics victoria-metrics
 ensure_deb docker-compose docker-compose
+# The report's browser test (Playwright drives Debian's browser; never 'playwright install') and the plots' font.
+ensure_deb /usr/lib/chromium/chromium-headless-shell chromium-headless-shell
+ensure_deb /usr/share/fonts/truetype/dejavu/DejaVuSans.ttf fonts-dejavu-core
 
 # npm packages of the interop peer (pinned in tests/interop/package-lock.json).
 if [ -f tests/interop/package.json ] && [ ! -d tests/interop/node_modules ]; then

@@ -95,7 +95,7 @@ internal static class DescribeCommand
         else
         {
             limits = model.SoluteLimits(t);
-            lines = Trace(model, t, limits.Value);
+            lines = EnvelopeTrace.TieLines(model, t, TracedLines, 0.9);
         }
 
         CorrelationFit? ot = null, hand = null;
@@ -118,26 +118,6 @@ internal static class DescribeCommand
         }
 
         return new Description(atT, t, valid, lines, measured, plait, ot, hand, problem, limits);
-    }
-
-    /// <summary>Tie lines of a model at evenly spaced raffinate solute fractions up to 90 % of its limit.</summary>
-    private static List<TieLine> Trace(IPhaseEquilibrium model, double t, SoluteLimits limits)
-    {
-        var lines = new List<TieLine>();
-        double top = Math.Min(limits.Raffinate, 1) * 0.9;
-        for (int i = 1; i <= TracedLines; i++)
-        {
-            try
-            {
-                lines.Add(model.TieLineFromRaffinate(top * i / TracedLines, t));
-            }
-            catch (Exception e) when (e is EquilibriumException or ArgumentException or ArithmeticException)
-            {
-                // A point the model cannot split is left out of the description.
-            }
-        }
-
-        return lines;
     }
 
     private static void WriteText(IAnsiConsole console, Description d)

@@ -9,6 +9,7 @@ using Tieflow.Core.Plant;
 using Tieflow.Files;
 using Tieflow.Service.Output;
 using Tieflow.Service.Replay;
+using Tieflow.Service.Report;
 using Tieflow.Storage.Points;
 using Tieflow.Storage.Sqlite;
 
@@ -25,21 +26,27 @@ internal static class ReplayCommand
         var truth = new Option<string?>("--truth") { Description = "Ground truth of a simulated run: adds the evaluation" };
         var store = new Option<string?>("--store") { Description = "Write the records to this embedded SQLite store (created when missing; read it with 'tieflow show')" };
         var records = new Option<string?>("--records") { Description = "Write every record as one line of InfluxDB line protocol to this file" };
+        var report = new Option<string?>("--report") { Description = "Write a report a person reads into this folder: index.html with its plots (efficiencies, soft sensor against analyzer and lab, solvent losses, alerts, reconciliation, ternary diagram)" };
         var json = new Option<bool>("--json") { Description = "Print the replay summary as JSON on standard output" };
         var command = new Command("replay", "Runs recorded history through the same analysis as live operation, as fast as possible.")
         {
-            plant, history, labs, truth, store, records, json,
+            plant, history, labs, truth, store, records, report, json,
         };
-        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(store), p.GetValue(records), p.GetValue(json))));
+        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(store), p.GetValue(records), p.GetValue(json), p.GetValue(report))));
         return command;
     }
 
-    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? storePath, string? recordsPath, bool json)
+    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? storePath, string? recordsPath, bool json, string? reportPath = null)
     {
         PlantDescription plant = PlantReader.Load(plantPath);
         if (!File.Exists(historyPath))
         {
             throw new InputException(historyPath, "$", "the history file does not exist");
+        }
+
+        if (reportPath is not null && File.Exists(reportPath))
+        {
+            throw new CliUsageException($"--report {reportPath}: expected a folder for the report, but this is a file");
         }
 
         IReadOnlyList<LabResult> labs = labsPath is null ? [] : LabCsvReader.Load(labsPath);
@@ -52,8 +59,10 @@ internal static class ReplayCommand
         }
 
         SqliteStore? sqlite = storePath is null ? null : new SqliteStore(new SqliteStoreOptions { Path = storePath, Site = plant.Site }, TimeProvider.System);
+        ReportCollector? collector = reportPath is null ? null : new ReportCollector(plant);
         void Sink(IReadOnlyList<MonitorRecord> batch)
         {
+            collector?.Add(batch);
             // The store's own mapping is the one home of measurement, tag and field names: the line file and the
             // embedded store get the same points.
             sqlite?.WriteAsync(batch, CancellationToken.None).GetAwaiter().GetResult();
@@ -73,7 +82,8 @@ internal static class ReplayCommand
 
         try
         {
-            return Replay(context, plant, historyPath, labs, truth, Sink, json);
+            ReportRequest? request = collector is null ? null : new ReportRequest(reportPath!, collector, [.. new[] { plantPath, historyPath, labsPath, truthPath }.OfType<string>().Select(Path.GetFileName).OfType<string>()]);
+            return Replay(context, plant, historyPath, labs, truth, Sink, json, request);
         }
         finally
         {
@@ -81,14 +91,22 @@ internal static class ReplayCommand
         }
     }
 
-    private static int Replay(CliContext context, PlantDescription plant, string historyPath, IReadOnlyList<LabResult> labs, TruthFile? truth, Action<IReadOnlyList<MonitorRecord>> sink, bool json)
+    private static int Replay(CliContext context, PlantDescription plant, string historyPath, IReadOnlyList<LabResult> labs, TruthFile? truth, Action<IReadOnlyList<MonitorRecord>> sink, bool json, ReportRequest? report)
     {
         var runner = new ReplayRunner(plant);
         context.Error.WriteLine(Notices.Advisory);
-        ReplayResult result = runner.Run(HistoryCsvReader.Read(historyPath), labs, sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
+        IEnumerable<SignalSample> history = HistoryCsvReader.Read(historyPath);
+        ReplayResult result = runner.Run(report is null ? history : report.Collector.Tap(history), labs, sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
         if (truth is not null)
         {
             result = ReplayRunner.Evaluate(result, truth);
+        }
+
+        if (report is not null)
+        {
+            report.Collector.Complete(result);
+            string page = ReportWriter.Write(report.Folder, new ReportHeader(plant.Site, report.Sources, result.Rows, result.Records), report.Collector.Units);
+            context.Error.WriteLine($"report: {page}");
         }
 
         foreach ((string tag, long n) in result.UnknownTags)
@@ -331,4 +349,7 @@ internal static class ReplayCommand
             w.WriteNull(name);
         }
     }
+
+    /// <summary>Where the report goes and what collects it.</summary>
+    private sealed record ReportRequest(string Folder, ReportCollector Collector, IReadOnlyList<string> Sources);
 }

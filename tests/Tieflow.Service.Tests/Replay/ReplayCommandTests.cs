@@ -1,9 +1,5 @@
 using System.Text.Json;
-using Tieflow.Core.Monitoring;
-using Tieflow.Core.Plant;
-using Tieflow.Core.Scenarios;
 using Tieflow.Files;
-using Tieflow.Simulator;
 
 namespace Tieflow.Service.Tests.Replay;
 
@@ -26,7 +22,7 @@ public sealed class ReplayCommandTests
                 { "kind": "signal-bad", "tag": "AI-312", "start": "05:00:00", "end": "07:00:00" } ],
               "lab": { "interval": "02:00:00", "delay": "01:00:00", "sigma": 0.0005 } }
             """);
-        (string history, string labs, string truth) = Simulate(ScenarioReader.Load(scenarioPath), folder.Path);
+        (string history, string labs, string truth) = SimulatedHistory.Write(ScenarioReader.Load(scenarioPath), folder.Path);
 
         string store = Path.Combine(folder.Path, "data", "replay.db"), lines = Path.Combine(folder.Path, "records.lp");
         CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--store", store, "--records", lines, "--json");
@@ -74,51 +70,5 @@ public sealed class ReplayCommandTests
 
         Assert.Equal(2, run.ExitCode);
         Assert.Contains("/nonexistent/history.csv", run.Error, StringComparison.Ordinal);
-    }
-
-    private static (string History, string Labs, string Truth) Simulate(Scenario scenario, string folder)
-    {
-        string history = Path.Combine(folder, "history.csv"), labs = Path.Combine(folder, "labs.csv"), truth = Path.Combine(folder, "truth.json");
-        var simulation = new PlantSimulation(scenario);
-        using (var sink = new FileSink(simulation, scenario.Plant, history, labs, truth))
-        {
-            while (!simulation.Finished)
-            {
-                simulation.Step(sink);
-            }
-
-            sink.Complete();
-        }
-
-        return (history, labs, truth);
-    }
-
-    private sealed class FileSink : ISimulationSink, IDisposable
-    {
-        private readonly HistoryCsvWriter _history;
-        private readonly LabCsvWriter _labs;
-        private readonly TruthFileWriter _truth;
-
-        public FileSink(PlantSimulation simulation, PlantDescription plant, string history, string labs, string truth)
-        {
-            _history = HistoryCsvWriter.Create(history);
-            _labs = LabCsvWriter.Create(labs);
-            _truth = TruthFileWriter.Create(truth, [.. plant.Units.Select(u => (u.Id, simulation.TruthFaults(u.Id)))]);
-        }
-
-        public void OnSample(UnitDescription unit, Instrument instrument, in SignalSample sample) => _history.Write(sample);
-
-        public void OnLabResult(LabResult result) => _labs.Write(result);
-
-        public void OnTruth(UnitDescription unit, TruthSample sample) => _truth.Write(unit.Id, sample);
-
-        public void Complete() => _truth.Complete();
-
-        public void Dispose()
-        {
-            _history.Dispose();
-            _labs.Dispose();
-            _truth.Dispose();
-        }
     }
 }
