@@ -15,6 +15,8 @@ public sealed class SignalChecker
     private readonly SignalCheckSettings _settings;
     private readonly double[] _recent;
     private readonly double[] _scratch;
+    private readonly double[] _sorted;
+    private int _sortedCount;
     private readonly double _frozenCritical;
     private int _count;
     private int _next;
@@ -35,6 +37,7 @@ public sealed class SignalChecker
         int history = Math.Max(3, instrument.IsAnalyzer ? _settings.AnalyzerHistory : _settings.ContinuousHistory);
         _recent = new double[history];
         _scratch = new double[history];
+        _sorted = new double[history];
         _frozenCritical = ChiSquared.InvCDF(history - 1, _settings.FrozenProbability);
         UpdateInterval = instrument.UpdateInterval ?? _settings.ContinuousUpdateInterval;
     }
@@ -84,6 +87,8 @@ public sealed class SignalChecker
                 _recent[_next] = _pendingSpikeValue;
                 _next = 1;
                 _count = 1;
+                _sorted[0] = _pendingSpikeValue;
+                _sortedCount = 1;
                 _pendingSpike = 0;
             }
             else
@@ -98,6 +103,12 @@ public sealed class SignalChecker
             _pendingSpike = 0;
         }
 
+        if (_count == _recent.Length)
+        {
+            RemoveSorted(_recent[_next]);
+        }
+
+        InsertSorted(sample.Value);
         _recent[_next] = sample.Value;
         _next = (_next + 1) % _recent.Length;
         _count = Math.Min(_count + 1, _recent.Length);
@@ -169,9 +180,19 @@ public sealed class SignalChecker
 
     private bool IsSpike(double value, out double side)
     {
-        Array.Copy(_recent, _scratch, _recent.Length);
-        Array.Sort(_scratch);
-        double median = Median(_scratch);
+        // The recent values are kept sorted as they come, so that the median is at hand. A reading within the larger
+        // of the two limits, in instrument sigmas, cannot be a spike whatever the spread (the robust scale is never
+        // below sigma), and needs no median absolute deviation: the common case.
+        double median = Median(_sorted);
+        side = value - median;
+        double deviation = Math.Abs(side);
+        double sigma = _instrument.Sigma;
+        if (!(deviation > _settings.SpikeSigmas * sigma) || deviation / sigma <= _settings.SpikeZ)
+        {
+            return false;
+        }
+
+        Array.Copy(_sorted, _scratch, _sorted.Length);
         for (int i = 0; i < _scratch.Length; i++)
         {
             _scratch[i] = Math.Abs(_scratch[i] - median);
@@ -182,9 +203,27 @@ public sealed class SignalChecker
         // 1.4826 makes the median absolute deviation a consistent estimate of sigma for normal data
         // (Rousseeuw and Croux, J. Am. Stat. Assoc. 88(424), 1993, 1273-1283).
         double scale = Math.Max(1.4826 * Median(_scratch), _instrument.Sigma);
-        side = value - median;
-        double deviation = Math.Abs(side);
         return deviation / scale > _settings.SpikeZ && deviation > _settings.SpikeSigmas * _instrument.Sigma;
+    }
+
+    private void InsertSorted(double value)
+    {
+        int at = _sortedCount;
+        while (at > 0 && _sorted[at - 1] > value)
+        {
+            _sorted[at] = _sorted[at - 1];
+            at--;
+        }
+
+        _sorted[at] = value;
+        _sortedCount++;
+    }
+
+    private void RemoveSorted(double value)
+    {
+        int at = Array.BinarySearch(_sorted, 0, _sortedCount, value);
+        Array.Copy(_sorted, at + 1, _sorted, at, _sortedCount - at - 1);
+        _sortedCount--;
     }
 
     private static double Median(double[] sorted)
