@@ -20,6 +20,7 @@ internal sealed class ReplayRunner
     public static readonly TimeSpan DefaultReorderWindow = TimeSpan.FromSeconds(10);
 
     private readonly TimeSpan _reorderWindow;
+    private readonly Dictionary<string, int> _rank = new(StringComparer.Ordinal);
 
     /// <param name="plant">The plant.</param>
     /// <param name="reorderWindow">Source time within which rows are put back in order (<see cref="DefaultReorderWindow"/> when null).</param>
@@ -33,6 +34,7 @@ internal sealed class ReplayRunner
             foreach (Instrument i in u.Instruments)
             {
                 _byTag[i.Tag] = a;
+                _rank.TryAdd(i.Tag, _rank.Count);
             }
         }
     }
@@ -79,14 +81,15 @@ internal sealed class ReplayRunner
                 last = s.Time;
             }
 
-            // Rows of tags the plant does not have are counted here and never held by the reorder buffer.
-            if (!_byTag.ContainsKey(s.Tag))
+            // Rows of tags the plant does not have are counted here and never held by the reorder buffer; the others
+            // are put in order of time and, within one time, of the plant file's instruments.
+            if (!_rank.TryGetValue(s.Tag, out int rank))
             {
                 unknown[s.Tag] = unknown.TryGetValue(s.Tag, out long n) ? n + 1 : 1;
             }
             else
             {
-                reorder.Add(s);
+                reorder.Add(s, rank);
                 while (reorder.TryRelease(out SignalSample r))
                 {
                     Analyze(r);

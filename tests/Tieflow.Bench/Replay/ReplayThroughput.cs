@@ -60,7 +60,7 @@ internal static class ReplayThroughput
         Full(plant, quarterFile, quarterLabs);
         Report("parse only", () => ParseOnly(wholeFile));
         Report("parse + signal checks", () => ParseAndCheck(plant, wholeFile));
-        Report("parse + reorder buffer", () => ParseAndReorder(wholeFile));
+        Report("parse + reorder buffer", () => ParseAndReorder(plant, wholeFile));
         (long quarterRows, long quarterHeap, _) = Full(plant, quarterFile, quarterLabs);
         (double rate, long heap, long peak) = Report("whole replay", () => Full(plant, wholeFile, labs));
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  memory: GC heap at most {quarterHeap / 1e6:F1} MB for {quarterRows:N0} rows, {heap / 1e6:F1} MB for four times as many; peak working set {peak / 1e6:F1} MB"));
@@ -121,14 +121,20 @@ internal static class ReplayThroughput
         return (rows, GC.GetTotalMemory(false), used == -1 ? 1 : 0);
     }
 
-    private static (long, long, long) ParseAndReorder(string file)
+    private static (long, long, long) ParseAndReorder(PlantDescription plant, string file)
     {
+        var ranks = new Dictionary<string, int>(StringComparer.Ordinal);
+        foreach (Instrument i in plant.Units.SelectMany(u => u.Instruments))
+        {
+            ranks.TryAdd(i.Tag, ranks.Count);
+        }
+
         var buffer = new ReorderBuffer(ReplayRunner.DefaultReorderWindow);
         long rows = 0, released = 0;
         foreach (SignalSample s in HistoryCsvReader.Open(file))
         {
             rows++;
-            buffer.Add(s);
+            buffer.Add(s, ranks.TryGetValue(s.Tag, out int rank) ? rank : -1);
             while (buffer.TryRelease(out _))
             {
                 released++;
