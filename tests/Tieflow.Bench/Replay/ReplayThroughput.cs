@@ -23,6 +23,9 @@ internal static class ReplayThroughput
 {
     public const double TargetRowsPerSecond = 2_000_000;
 
+    /// <summary>Bytes still in use after the last whole replay (a full collection, the runner and its result alive).</summary>
+    private static long Retained { get; set; }
+
     public static int Run(string which)
     {
         string root = BenchPaths.Root();
@@ -62,8 +65,9 @@ internal static class ReplayThroughput
         Report("parse + signal checks", () => ParseAndCheck(plant, wholeFile));
         Report("parse + reorder buffer", () => ParseAndReorder(plant, wholeFile));
         (long quarterRows, long quarterHeap, _) = Full(plant, quarterFile, quarterLabs);
+        long quarterRetained = Retained;
         (double rate, long heap, long peak) = Report("whole replay", () => Full(plant, wholeFile, labs));
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  memory: GC heap at most {quarterHeap / 1e6:F1} MB for {quarterRows:N0} rows, {heap / 1e6:F1} MB for four times as many; peak working set {peak / 1e6:F1} MB"));
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  memory: GC heap at most {quarterHeap / 1e6:F1} MB for {quarterRows:N0} rows, {heap / 1e6:F1} MB for four times as many; in use at the end {quarterRetained / 1e6:F1} MB and {Retained / 1e6:F1} MB; peak working set {peak / 1e6:F1} MB"));
         bool flat = heap <= (1.5 * quarterHeap) + 16e6;
         bool fast = rate >= TargetRowsPerSecond;
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  target {TargetRowsPerSecond:N0} rows per CPU s: {(fast ? "met" : "NOT met")}; memory flat: {(flat ? "yes" : "NO")}"));
@@ -155,8 +159,11 @@ internal static class ReplayThroughput
             }
         }
 
-        ReplayResult result = new ReplayRunner(plant).Run(HistoryCsvReader.Open(file), labs, Sink);
+        var runner = new ReplayRunner(plant);
+        ReplayResult result = runner.Run(HistoryCsvReader.Open(file), labs, Sink);
         heap = Math.Max(heap, GC.GetTotalMemory(false));
+        Retained = GC.GetTotalMemory(forceFullCollection: true);
+        GC.KeepAlive(runner);
         return (result.Rows, heap, result.Records);
     }
 

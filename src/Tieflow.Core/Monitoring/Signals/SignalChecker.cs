@@ -279,8 +279,22 @@ public sealed class SignalChecker
 
     private void RemoveSorted(double value)
     {
-        int at = Array.BinarySearch(_sorted, 0, _sortedCount, value);
-        Array.Copy(_sorted, at + 1, _sorted, at, _sortedCount - at - 1);
+        // The first element not below the value: the value itself, which is always there.
+        int lo = 0, hi = _sortedCount;
+        while (lo < hi)
+        {
+            int mid = (lo + hi) >>> 1;
+            if (_sorted[mid] < value)
+            {
+                lo = mid + 1;
+            }
+            else
+            {
+                hi = mid;
+            }
+        }
+
+        Array.Copy(_sorted, lo + 1, _sorted, lo, _sortedCount - lo - 1);
         _sortedCount--;
     }
 
