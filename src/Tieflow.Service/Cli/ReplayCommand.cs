@@ -52,6 +52,11 @@ internal static class ReplayCommand
             throw new CliUsageException($"--max-bad-lines must be 0 or more, found {historyOptions.MaxBadLines}");
         }
 
+        if (historyOptions.ReorderWindow < TimeSpan.Zero)
+        {
+            throw new CliUsageException($"--reorder-window must be zero or more, found {historyOptions.ReorderWindow}");
+        }
+
         PlantDescription plant = PlantReader.Load(plantPath);
         if (!File.Exists(historyPath))
         {
