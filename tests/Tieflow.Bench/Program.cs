@@ -47,6 +47,16 @@ public static class Program
             return 0;
         }
 
+        if (args.Length > 0 && args[0] == "replay")
+        {
+            return Replay.ReplayThroughput.Run(args.Length > 1 ? args[1] : "clean");
+        }
+
+        if (args.Length > 0 && args[0] == "window")
+        {
+            return Replay.WindowLatency.Run(args.Length > 1 ? args[1] : "clean");
+        }
+
         BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
         return 0;
     }

@@ -33,6 +33,7 @@ public sealed class UnitAnalyzer
     private readonly Dictionary<long, Dictionary<string, SignalProblem>> _windowProblems = [];
     private readonly Dictionary<string, CaoRhinehartFilter> _steadyFilters = new(StringComparer.Ordinal);
     private readonly Dictionary<string, (long Minute, double Sum, int Count)> _minuteMeans = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, TagSlot> _slots = new(StringComparer.Ordinal);
     private readonly AlertBook _alerts;
     private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
     private readonly TimeSpan _lag;
@@ -111,6 +112,11 @@ public sealed class UnitAnalyzer
         {
             _steadyFilters[tag] = new CaoRhinehartFilter();
         }
+
+        foreach (Instrument i in unit.Instruments)
+        {
+            _slots[i.Tag] = new TagSlot(_checkers[i.Tag], _model.Binding(i.Tag)!, _steadyFilters.ContainsKey(i.Tag));
+        }
     }
 
     /// <summary>The unit model (network and bindings).</summary>
@@ -128,7 +134,7 @@ public sealed class UnitAnalyzer
     /// <param name="output">Receives the records produced.</param>
     public void Add(in SignalSample sample, List<MonitorRecord> output)
     {
-        if (!_checkers.TryGetValue(sample.Tag, out SignalChecker? checker))
+        if (!_slots.TryGetValue(sample.Tag, out TagSlot? slot))
         {
             return;
         }
@@ -141,9 +147,8 @@ public sealed class UnitAnalyzer
         }
 
         CloseWindows(sample.Time, output);
-        TagCheckState state = checker.Check(sample);
-        InstrumentBinding binding = _model.Binding(sample.Tag)!;
-        Instrument instrument = binding.Instrument;
+        TagCheckState state = slot.Checker.Check(sample);
+        Instrument instrument = slot.Binding.Instrument;
         DateTimeOffset aligned = instrument.DeadTime is { } dead ? sample.Time - dead : sample.Time;
         long w = WindowIndex(aligned);
         if (state.IsUpdate && state.Problem is not (SignalProblem.None or SignalProblem.Spike) && w > _closedThrough)
@@ -162,18 +167,29 @@ public sealed class UnitAnalyzer
         }
 
         double value = instrument.Unit.ToBase(sample.Value);
-        if (!_windows.TryGetValue(w, out Dictionary<string, TagWindow>? tags))
+        TagWindow? tw = slot.Window == w ? slot.TagWindow : null;
+        if (tw is null)
         {
-            _windows[w] = tags = new Dictionary<string, TagWindow>(StringComparer.Ordinal);
-        }
+            if (!_windows.TryGetValue(w, out Dictionary<string, TagWindow>? tags))
+            {
+                _windows[w] = tags = new Dictionary<string, TagWindow>(StringComparer.Ordinal);
+            }
 
-        if (!tags.TryGetValue(sample.Tag, out TagWindow? tw))
-        {
-            tags[sample.Tag] = tw = new TagWindow();
+            if (!tags.TryGetValue(sample.Tag, out tw))
+            {
+                tags[sample.Tag] = tw = new TagWindow();
+            }
+
+            // A window's accumulator stays with it until the window closes, after which no reading enters it.
+            slot.Window = w;
+            slot.TagWindow = tw;
         }
 
         tw.Add(value);
-        FeedSteadyFilter(sample.Tag, aligned, value, instrument.IsAnalyzer);
+        if (slot.Steady)
+        {
+            FeedSteadyFilter(sample.Tag, aligned, value, instrument.IsAnalyzer);
+        }
     }
 
     /// <summary>Adds a lab result at its reported time (it is never used before).</summary>
@@ -893,5 +909,19 @@ public sealed class UnitAnalyzer
         {
             return null;
         }
+    }
+
+    /// <summary>What one reading of a tag needs, found by one lookup; and the accumulator of the window it last went to.</summary>
+    private sealed class TagSlot(SignalChecker checker, InstrumentBinding binding, bool steady)
+    {
+        public SignalChecker Checker { get; } = checker;
+
+        public InstrumentBinding Binding { get; } = binding;
+
+        public bool Steady { get; } = steady;
+
+        public long Window { get; set; } = long.MinValue;
+
+        public TagWindow? TagWindow { get; set; }
     }
 }

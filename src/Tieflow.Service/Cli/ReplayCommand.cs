@@ -28,16 +28,37 @@ internal static class ReplayCommand
         var records = new Option<string?>("--records") { Description = "Write every record as one line of InfluxDB line protocol to this file" };
         var report = new Option<string?>("--report") { Description = "Write a report a person reads into this folder: index.html with its plots (efficiencies, soft sensor against analyzer and lab, solvent losses, alerts, reconciliation, ternary diagram)" };
         var json = new Option<bool>("--json") { Description = "Print the replay summary as JSON on standard output" };
+        var maxBad = new Option<long?>("--max-bad-lines")
+        {
+            Description = "Stop with exit code 2 after more than N history lines that are not records (default: fail at the end when more than 100 and more than 1 % of the lines are bad)",
+            HelpName = "N",
+        };
+        var reorder = CommonOptions.Duration("--reorder-window", "Source time within which history rows out of time order are put back in order (later rows are dropped as late)", ReplayRunner.DefaultReorderWindow);
         var command = new Command("replay", "Runs recorded history through the same analysis as live operation, as fast as possible.")
         {
-            plant, history, labs, truth, store, records, report, json,
+            plant, history, labs, truth, store, records, report, json, maxBad, reorder,
         };
-        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(store), p.GetValue(records), p.GetValue(json), p.GetValue(report))));
+        command.SetAction(p => CommandRunner.Run(context, () => Run(context, p.GetValue(plant)!, p.GetValue(history)!, p.GetValue(labs), p.GetValue(truth), p.GetValue(store), p.GetValue(records), p.GetValue(json),
+            new HistoryOptions(p.GetValue(maxBad), p.GetValue(reorder)), p.GetValue(report))));
         return command;
     }
 
-    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? storePath, string? recordsPath, bool json, string? reportPath = null)
+    /// <summary>How the history is read: the limit on bad lines (null: the default rule) and the reorder window.</summary>
+    internal sealed record HistoryOptions(long? MaxBadLines, TimeSpan ReorderWindow);
+
+    public static int Run(CliContext context, string plantPath, string historyPath, string? labsPath, string? truthPath, string? storePath, string? recordsPath, bool json, HistoryOptions? historyOptions = null, string? reportPath = null)
     {
+        historyOptions ??= new HistoryOptions(null, ReplayRunner.DefaultReorderWindow);
+        if (historyOptions.MaxBadLines is < 0)
+        {
+            throw new CliUsageException($"--max-bad-lines must be 0 or more, found {historyOptions.MaxBadLines}");
+        }
+
+        if (historyOptions.ReorderWindow < TimeSpan.Zero)
+        {
+            throw new CliUsageException($"--reorder-window must be zero or more, found {historyOptions.ReorderWindow}");
+        }
+
         PlantDescription plant = PlantReader.Load(plantPath);
         if (!File.Exists(historyPath))
         {
@@ -83,7 +104,7 @@ internal static class ReplayCommand
         try
         {
             ReportRequest? request = collector is null ? null : new ReportRequest(reportPath!, collector, [.. new[] { plantPath, historyPath, labsPath, truthPath }.OfType<string>().Select(Path.GetFileName).OfType<string>()]);
-            return Replay(context, plant, historyPath, labs, truth, Sink, json, request);
+            return Replay(context, plant, historyPath, historyOptions, labs, truth, Sink, json, request);
         }
         finally
         {
@@ -91,12 +112,13 @@ internal static class ReplayCommand
         }
     }
 
-    private static int Replay(CliContext context, PlantDescription plant, string historyPath, IReadOnlyList<LabResult> labs, TruthFile? truth, Action<IReadOnlyList<MonitorRecord>> sink, bool json, ReportRequest? report)
+    private static int Replay(CliContext context, PlantDescription plant, string historyPath, HistoryOptions options, IReadOnlyList<LabResult> labs, TruthFile? truth, Action<IReadOnlyList<MonitorRecord>> sink, bool json, ReportRequest? report)
     {
-        var runner = new ReplayRunner(plant);
+        var runner = new ReplayRunner(plant, options.ReorderWindow);
+        HistoryCsvSource source = HistoryCsvReader.Open(historyPath, new HistoryReadOptions { MaxBadLines = options.MaxBadLines });
         context.Error.WriteLine(Notices.Advisory);
-        IEnumerable<SignalSample> history = HistoryCsvReader.Read(historyPath);
-        ReplayResult result = runner.Run(report is null ? history : report.Collector.Tap(history), labs, sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
+        ReplayResult result = runner.Run(report is null ? source : report.Collector.Tap(source), labs, sink, rows => context.Error.WriteLine($"replay: {rows:N0} rows"));
+        result = result with { BadLines = source.BadLines, FirstBadLines = source.FirstBadLines };
         if (truth is not null)
         {
             result = ReplayRunner.Evaluate(result, truth);
@@ -114,6 +136,21 @@ internal static class ReplayCommand
             context.Error.WriteLine($"warning: {historyPath}: tag {tag} is not in the plant file ({n:N0} rows ignored)");
         }
 
+        foreach (HistoryBadLine bad in result.FirstBadLines)
+        {
+            context.Error.WriteLine($"warning: {historyPath}: {bad.Location}: {bad.Reason} (line skipped)");
+        }
+
+        if (result.BadLines > result.FirstBadLines.Count)
+        {
+            context.Error.WriteLine($"warning: {historyPath}: {result.BadLines - result.FirstBadLines.Count:N0} more bad lines skipped");
+        }
+
+        if (result.Duplicates + result.Conflicts + result.Late > 0)
+        {
+            context.Error.WriteLine($"warning: {historyPath}: {result.Duplicates:N0} duplicate rows, {result.Conflicts:N0} conflicting rows (same tag and time, another value: the first kept) and {result.Late:N0} late rows (beyond the reorder window) dropped");
+        }
+
         if (json)
         {
             JsonOutput.Print(context.Output, w => WriteSummary(w, result, truth is not null));
@@ -129,6 +166,7 @@ internal static class ReplayCommand
     private static void WriteSummary(Utf8JsonWriter w, ReplayResult result, bool evaluate)
     {
         w.WriteStartObject();
+        WriteHistoryCounts(w, result);
         w.WriteStartArray("units");
         foreach ((UnitDescription unit, UnitSummary s, _) in result.Units)
         {
@@ -286,10 +324,46 @@ internal static class ReplayCommand
         w.WriteEndObject();
     }
 
+    private static void WriteHistoryCounts(Utf8JsonWriter w, ReplayResult result)
+    {
+        w.WriteStartObject("history");
+        w.WriteNumber("rows", result.Rows);
+        w.WriteNumber("badLines", result.BadLines);
+        w.WriteStartArray("firstBadLines");
+        foreach (HistoryBadLine bad in result.FirstBadLines)
+        {
+            w.WriteStartObject();
+            w.WriteNumber("line", bad.Line);
+            w.WriteString("location", bad.Location);
+            w.WriteString("reason", bad.Reason);
+            w.WriteEndObject();
+        }
+
+        w.WriteEndArray();
+        w.WriteNumber("duplicates", result.Duplicates);
+        w.WriteNumber("conflicts", result.Conflicts);
+        w.WriteNumber("late", result.Late);
+        w.WriteStartObject("unknownTags");
+        foreach ((string tag, long n) in result.UnknownTags.OrderBy(t => t.Key, StringComparer.Ordinal))
+        {
+            w.WriteNumber(tag, n);
+        }
+
+        w.WriteEndObject();
+        w.WriteNumber("records", result.Records);
+        w.WriteEndObject();
+    }
+
     private static void WriteText(CliContext context, ReplayResult result)
     {
         TextWriter o = context.Output;
         o.WriteLine($"Replayed {result.Rows:N0} history rows into {result.Records:N0} records.");
+        long unknownRows = result.UnknownTags.Values.Sum();
+        o.WriteLine($"History: {result.BadLines:N0} bad lines skipped, {result.Duplicates:N0} duplicate, {result.Conflicts:N0} conflicting and {result.Late:N0} late rows dropped, {unknownRows:N0} rows of {result.UnknownTags.Count} unknown tag(s) ignored.");
+        foreach ((string tag, long n) in result.UnknownTags.OrderBy(t => t.Key, StringComparer.Ordinal))
+        {
+            o.WriteLine($"  unknown tag {tag}: {n:N0} rows");
+        }
         foreach ((UnitDescription unit, UnitSummary s, EvaluationResult? e) in result.Units)
         {
             o.WriteLine();

@@ -16,8 +16,17 @@ internal sealed class ReplayRunner
     private readonly Dictionary<string, UnitAnalyzer> _byTag = new(StringComparer.Ordinal);
     private readonly List<UnitAnalyzer> _analyzers = [];
 
-    public ReplayRunner(PlantDescription plant)
+    /// <summary>Default window within which rows out of time order are put back in order.</summary>
+    public static readonly TimeSpan DefaultReorderWindow = TimeSpan.FromSeconds(10);
+
+    private readonly TimeSpan _reorderWindow;
+    private readonly Dictionary<string, int> _rank = new(StringComparer.Ordinal);
+
+    /// <param name="plant">The plant.</param>
+    /// <param name="reorderWindow">Source time within which rows are put back in order (<see cref="DefaultReorderWindow"/> when null).</param>
+    public ReplayRunner(PlantDescription plant, TimeSpan? reorderWindow = null)
     {
+        _reorderWindow = reorderWindow ?? DefaultReorderWindow;
         foreach (UnitDescription u in plant.Units)
         {
             var a = new UnitAnalyzer(u);
@@ -25,12 +34,13 @@ internal sealed class ReplayRunner
             foreach (Instrument i in u.Instruments)
             {
                 _byTag[i.Tag] = a;
+                _rank.TryAdd(i.Tag, _rank.Count);
             }
         }
     }
 
     /// <summary>Replays a history; records go to <paramref name="sink"/> as they are produced.</summary>
-    /// <param name="history">The history rows, in time order give or take a few seconds.</param>
+    /// <param name="history">The history rows, in time order give or take the reorder window; repeats are dropped.</param>
     /// <param name="labs">Lab results (any order).</param>
     /// <param name="sink">Receives each batch of records.</param>
     /// <param name="progress">Called now and then with the rows read.</param>
@@ -39,11 +49,12 @@ internal sealed class ReplayRunner
         var pendingLabs = new Queue<LabResult>(labs.OrderBy(l => l.Reported));
         var unknown = new Dictionary<string, long>(StringComparer.Ordinal);
         var buffer = new List<MonitorRecord>(256);
+        var reorder = new ReorderBuffer(_reorderWindow);
         long rows = 0, records = 0;
         DateTimeOffset last = DateTimeOffset.MinValue;
-        foreach (SignalSample s in history)
+
+        void Analyze(in SignalSample s)
         {
-            rows++;
             while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= s.Time)
             {
                 LabResult lab = pendingLabs.Dequeue();
@@ -53,31 +64,47 @@ internal sealed class ReplayRunner
                 }
             }
 
-            if (_byTag.TryGetValue(s.Tag, out UnitAnalyzer? analyzer))
-            {
-                analyzer.Add(s, buffer);
-            }
-            else
-            {
-                unknown[s.Tag] = unknown.TryGetValue(s.Tag, out long n) ? n + 1 : 1;
-            }
-
-            if (s.Time > last)
-            {
-                last = s.Time;
-            }
-
+            _byTag[s.Tag].Add(s, buffer);
             if (buffer.Count > 0)
             {
                 records += buffer.Count;
                 sink(buffer);
                 buffer.Clear();
             }
+        }
+
+        foreach (SignalSample s in history)
+        {
+            rows++;
+            if (s.Time > last)
+            {
+                last = s.Time;
+            }
+
+            // Rows of tags the plant does not have are counted here and never held by the reorder buffer; the others
+            // are put in order of time and, within one time, of the plant file's instruments.
+            if (!_rank.TryGetValue(s.Tag, out int rank))
+            {
+                unknown[s.Tag] = unknown.TryGetValue(s.Tag, out long n) ? n + 1 : 1;
+            }
+            else
+            {
+                reorder.Add(s, rank);
+                while (reorder.TryRelease(out SignalSample r))
+                {
+                    Analyze(r);
+                }
+            }
 
             if (progress is not null && (rows & 0xFFFFF) == 0)
             {
                 progress(rows);
             }
+        }
+
+        while (reorder.TryDrain(out SignalSample r))
+        {
+            Analyze(r);
         }
 
         if (rows > 0)
@@ -104,7 +131,12 @@ internal sealed class ReplayRunner
         }
 
         progress?.Invoke(rows);
-        return new ReplayResult([.. _analyzers.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], unknown, rows, records);
+        return new ReplayResult([.. _analyzers.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], unknown, rows, records)
+        {
+            Duplicates = reorder.Duplicates,
+            Conflicts = reorder.Conflicts,
+            Late = reorder.Late,
+        };
     }
 
     /// <summary>Adds the evaluation against a truth file to a replay's result.</summary>

@@ -1,3 +1,4 @@
+using System.Numerics;
 using MathNet.Numerics.Distributions;
 using Tieflow.Core.Plant;
 
@@ -15,6 +16,8 @@ public sealed class SignalChecker
     private readonly SignalCheckSettings _settings;
     private readonly double[] _recent;
     private readonly double[] _scratch;
+    private readonly double[] _sorted;
+    private int _sortedCount;
     private readonly double _frozenCritical;
     private int _count;
     private int _next;
@@ -35,6 +38,7 @@ public sealed class SignalChecker
         int history = Math.Max(3, instrument.IsAnalyzer ? _settings.AnalyzerHistory : _settings.ContinuousHistory);
         _recent = new double[history];
         _scratch = new double[history];
+        _sorted = new double[history];
         _frozenCritical = ChiSquared.InvCDF(history - 1, _settings.FrozenProbability);
         UpdateInterval = instrument.UpdateInterval ?? _settings.ContinuousUpdateInterval;
     }
@@ -84,6 +88,8 @@ public sealed class SignalChecker
                 _recent[_next] = _pendingSpikeValue;
                 _next = 1;
                 _count = 1;
+                _sorted[0] = _pendingSpikeValue;
+                _sortedCount = 1;
                 _pendingSpike = 0;
             }
             else
@@ -98,6 +104,12 @@ public sealed class SignalChecker
             _pendingSpike = 0;
         }
 
+        if (_count == _recent.Length)
+        {
+            RemoveSorted(_recent[_next]);
+        }
+
+        InsertSorted(sample.Value);
         _recent[_next] = sample.Value;
         _next = (_next + 1) % _recent.Length;
         _count = Math.Min(_count + 1, _recent.Length);
@@ -142,6 +154,32 @@ public sealed class SignalChecker
 
     private bool IsFrozen()
     {
+        // Quantisation alone leaves a spread of about resolution^2 / 12 per reading; a signal whose noise is below its
+        // resolution cannot be judged frozen by its spread.
+        double sigma = _instrument.Sigma;
+        if (_instrument.Resolution > 0 && _instrument.Resolution > sigma)
+        {
+            return false;
+        }
+
+        // A quick sum of squares in another order of summation (vectors) differs from the loops below by rounding
+        // only, far less than the margin; the loops decide only a spread that close to the limit.
+        if (_recent.Length >= 16 && Vector.IsHardwareAccelerated)
+        {
+            (double quick, double squares) = QuickSumOfSquares(_recent);
+            double limit = _frozenCritical * sigma * sigma;
+            double margin = (1e-9 * limit) + (1e-12 * squares);
+            if (quick > limit + margin)
+            {
+                return false;
+            }
+
+            if (quick < limit - margin)
+            {
+                return true;
+            }
+        }
+
         double mean = 0;
         for (int i = 0; i < _recent.Length; i++)
         {
@@ -156,22 +194,63 @@ public sealed class SignalChecker
             ss += d * d;
         }
 
-        // Quantisation alone leaves a spread of about resolution^2 / 12 per reading; a signal whose noise is below its
-        // resolution cannot be judged frozen by its spread.
-        double sigma = _instrument.Sigma;
-        if (_instrument.Resolution > 0 && _instrument.Resolution > sigma)
+        return ss / (sigma * sigma) < _frozenCritical;
+    }
+
+    /// <summary>The sum of squared deviations from the mean and the sum of squares of the values, summed by vectors.</summary>
+    private static (double Deviations, double Squares) QuickSumOfSquares(double[] values)
+    {
+        ReadOnlySpan<double> span = values;
+        int width = Vector<double>.Count, whole = span.Length - (span.Length % width);
+        var sum = Vector<double>.Zero;
+        for (int i = 0; i < whole; i += width)
         {
-            return false;
+            sum += new Vector<double>(span[i..]);
         }
 
-        return ss / (sigma * sigma) < _frozenCritical;
+        double total = Vector.Sum(sum);
+        for (int i = whole; i < span.Length; i++)
+        {
+            total += span[i];
+        }
+
+        double mean = total / span.Length;
+        var m = new Vector<double>(mean);
+        Vector<double> deviations = Vector<double>.Zero, squares = Vector<double>.Zero;
+        for (int i = 0; i < whole; i += width)
+        {
+            var v = new Vector<double>(span[i..]);
+            Vector<double> d = v - m;
+            deviations += d * d;
+            squares += v * v;
+        }
+
+        double ss = Vector.Sum(deviations), sq = Vector.Sum(squares);
+        for (int i = whole; i < span.Length; i++)
+        {
+            double d = span[i] - mean;
+            ss += d * d;
+            sq += span[i] * span[i];
+        }
+
+        return (ss, sq);
     }
 
     private bool IsSpike(double value, out double side)
     {
-        Array.Copy(_recent, _scratch, _recent.Length);
-        Array.Sort(_scratch);
-        double median = Median(_scratch);
+        // The recent values are kept sorted as they come, so that the median is at hand. A reading within the larger
+        // of the two limits, in instrument sigmas, cannot be a spike whatever the spread (the robust scale is never
+        // below sigma), and needs no median absolute deviation: the common case.
+        double median = Median(_sorted);
+        side = value - median;
+        double deviation = Math.Abs(side);
+        double sigma = _instrument.Sigma;
+        if (!(deviation > _settings.SpikeSigmas * sigma) || deviation / sigma <= _settings.SpikeZ)
+        {
+            return false;
+        }
+
+        Array.Copy(_sorted, _scratch, _sorted.Length);
         for (int i = 0; i < _scratch.Length; i++)
         {
             _scratch[i] = Math.Abs(_scratch[i] - median);
@@ -182,9 +261,41 @@ public sealed class SignalChecker
         // 1.4826 makes the median absolute deviation a consistent estimate of sigma for normal data
         // (Rousseeuw and Croux, J. Am. Stat. Assoc. 88(424), 1993, 1273-1283).
         double scale = Math.Max(1.4826 * Median(_scratch), _instrument.Sigma);
-        side = value - median;
-        double deviation = Math.Abs(side);
         return deviation / scale > _settings.SpikeZ && deviation > _settings.SpikeSigmas * _instrument.Sigma;
+    }
+
+    private void InsertSorted(double value)
+    {
+        int at = _sortedCount;
+        while (at > 0 && _sorted[at - 1] > value)
+        {
+            _sorted[at] = _sorted[at - 1];
+            at--;
+        }
+
+        _sorted[at] = value;
+        _sortedCount++;
+    }
+
+    private void RemoveSorted(double value)
+    {
+        // The first element not below the value: the value itself, which is always there.
+        int lo = 0, hi = _sortedCount;
+        while (lo < hi)
+        {
+            int mid = (lo + hi) >>> 1;
+            if (_sorted[mid] < value)
+            {
+                lo = mid + 1;
+            }
+            else
+            {
+                hi = mid;
+            }
+        }
+
+        Array.Copy(_sorted, lo + 1, _sorted, lo, _sortedCount - lo - 1);
+        _sortedCount--;
     }
 
     private static double Median(double[] sorted)
