@@ -115,6 +115,8 @@ public sealed class UaCommandTests : IAsyncLifetime
     [Fact]
     public async Task Watch_ServerRestartedDuringTheWatch_ReconnectsByItselfAndReportsTheGap()
     {
+        // The watch lasts long enough for the reconnect even on a busy machine (it once missed it within 7 s at a load
+        // of 20 on two cores); what is asserted is the events, not how fast they came.
         var port = _server.Port;
         var restart = Task.Run(async () =>
         {
@@ -128,7 +130,7 @@ public sealed class UaCommandTests : IAsyncLifetime
         });
 
         CliRun run = await Task.Run(() => CliRun.Of("ua", "watch", "--endpoint", $"opc.tcp://127.0.0.1:{port}/plant", "--node", "ns=2;s=Train.FeedFlow",
-            "--sampling", "00:00:00.200", "--for", "00:00:07", "--json"));
+            "--sampling", "00:00:00.200", "--for", "00:00:15", "--json"));
         await restart;
 
         Assert.True(run.ExitCode == 0, run.Error);
