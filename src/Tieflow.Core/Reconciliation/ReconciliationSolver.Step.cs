@@ -38,6 +38,23 @@ internal sealed partial class ReconciliationSolver
             return residual <= Math.Max(tolerance, 1e-12) ? SolverOutcome.Converged : SolverOutcome.Infeasible;
         }
 
+        SolverOutcome outcome = Iterate(allowBand: _order is not null, out iterations, out residual, out step, out bool redo);
+        if (redo)
+        {
+            // The banded steps assumed a regular layout that the closing dense factorisation did not find: solve again
+            // on the dense path.
+            outcome = Iterate(allowBand: false, out iterations, out residual, out step, out _);
+        }
+
+        return outcome;
+    }
+
+    // The iteration; with the band allowed, a step is taken on the band whenever the last dense factorisation of the
+    // layout found it regular (so the first solve of a layout starts dense).
+    private SolverOutcome Iterate(bool allowBand, out int iterations, out double residual, out double step, out bool redo)
+    {
+        double tolerance = _options.Tolerance;
+        redo = false;
         Initialize();
         step = double.PositiveInfinity;
         residual = double.PositiveInfinity;
@@ -47,9 +64,30 @@ internal sealed partial class ReconciliationSolver
         while (iterations < _options.MaxIterations)
         {
             iterations++;
-            Factorize();
             double previous = step;
-            step = Step();
+            bool banded = false;
+            if (allowBand && _bandTrusted)
+            {
+                _z.CopyTo(_zPrevious, 0);
+                banded = BandedStep(out step);
+                if (!banded)
+                {
+                    _zPrevious.CopyTo(_z, 0);
+                    _balancesCurrent = false;
+                }
+            }
+
+            if (!banded)
+            {
+                Factorize();
+                if (_order is not null)
+                {
+                    _bandTrusted = DenseFactorizationIsRegular();
+                }
+
+                step = Step();
+            }
+
             residual = RelativeResidual();
             shrinking = step < 0.9 * previous ? shrinking + 1 : 0;
             StillConverging = shrinking >= 3 || iterations < 4;
@@ -60,6 +98,24 @@ internal sealed partial class ReconciliationSolver
 
             if (residual <= tolerance && step <= _options.StepTolerance)
             {
+                if (banded)
+                {
+                    // The classification, covariance and multipliers come from the dense factorisation at the point
+                    // of the last step, which is taken again from there: the dense path's answer to roundoff.
+                    _zPrevious.CopyTo(_z, 0);
+                    _balancesCurrent = false;
+                    Factorize();
+                    _bandTrusted = DenseFactorizationIsRegular();
+                    if (!_bandTrusted)
+                    {
+                        redo = true;
+                        return SolverOutcome.NotConverged;
+                    }
+
+                    step = Step();
+                    residual = RelativeResidual();
+                }
+
                 ComputeVariances();
                 return SolverOutcome.Converged;
             }

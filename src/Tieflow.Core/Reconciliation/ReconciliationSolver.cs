@@ -279,6 +279,7 @@ internal sealed partial class ReconciliationSolver
         _maskAx = new ulong[_nx];
         _maskAu = new ulong[_nu];
         _maskV = new ulong[_nu];
+        PrepareBand();
     }
 
     /// <summary>Sets the variance of adjusted measurement <paramref name="k"/>; a flow-only layout factorises again when it changed.</summary>
