@@ -49,7 +49,7 @@ public sealed class CascadeDesign
     /// <summary>Largest stage count a design may return.</summary>
     public int MaxStages { get; }
 
-    private string FlowUnit => _envelope.Model.System.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+    private string FlowUnit => _envelope.Model.System.FlowUnit;
 
     /// <summary>Stages of a counter-current cascade for a target at the given solvent flow.</summary>
     /// <param name="feed">Feed to stage 1; flow above zero.</param>

@@ -155,7 +155,7 @@ public static class ResultWarnings
         }
     }
 
-    private static string Unit(IPhaseEquilibrium model) => model.System.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+    private static string Unit(IPhaseEquilibrium model) => model.System.FlowUnit;
 
     private static string F(double x) => x.ToString("G4", CultureInfo.InvariantCulture);
 }

@@ -44,6 +44,9 @@ public sealed class TernarySystem
     /// <summary>Basis of compositions and flows exchanged with this system.</summary>
     public CompositionBasis Basis { get; }
 
+    /// <summary>The flow unit of the basis (kg/h or kmol/h), as every output and message names it.</summary>
+    public string FlowUnit => Basis.FlowUnit();
+
     /// <summary>Components in role order: solute, diluent, solvent.</summary>
     public IReadOnlyList<Component> Components => _components;
 

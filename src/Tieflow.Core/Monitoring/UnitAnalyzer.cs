@@ -858,7 +858,7 @@ public sealed class UnitAnalyzer
         var key = new AlertKey("solvent-loss", null, null);
         bool active = _alerts.IsActive(key);
         bool condition = excess > (active ? threshold / 2 : threshold) && excess > 3 * sigma;
-        string unit = _unit.System.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        string unit = _unit.System.FlowUnit;
         _alerts.Update(end, key, condition, AlertSeverity.High,
             $"{excess:F1} {unit} of solvent are unaccounted for (sigma {sigma:F1} {unit}; set point {threshold:F1} {unit})",
             new Dictionary<string, double> { ["unaccounted"] = excess, ["sigma"] = sigma, ["threshold"] = threshold },

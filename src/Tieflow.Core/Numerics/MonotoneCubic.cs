@@ -180,36 +180,58 @@ internal sealed class MonotoneCubic
 
     private double SolveInInterval(int channel, int i, double target)
     {
-        double lo = _x[i];
-        double hi = _x[i + 1];
-        double flo = _y[channel][i] - target;
-        if (_y[channel][i + 1] - target == 0)
+        double[] y = _y[channel];
+        double f0 = y[i] - target;
+        double f1 = y[i + 1] - target;
+        if (f1 == 0)
         {
-            return hi;
+            return _x[i + 1];
         }
 
-        // Bisection with a secant guess: the cubic is monotone here, so this converges safely in a few dozen steps.
-        for (int k = 0; k < 100 && hi - lo > 1e-15 * Math.Max(1, Math.Abs(hi)); k++)
+        // Newton on the interval's cubic in s = (t - x_i) / h, from the secant guess, kept inside a bracket that
+        // shrinks with every evaluation (a step leaving it bisects instead): the cubic is monotone here, so this
+        // is safe, and it converges in a handful of evaluations where plain bisection needs fifty.
+        double[] k = _coefficients[channel];
+        int b = 4 * i;
+        double c0 = k[b], c1 = k[b + 1], c2 = k[b + 2], c3 = k[b + 3];
+        double h = _x[i + 1] - _x[i];
+        double tolerance = 1e-15 * Math.Max(1, Math.Abs(_x[i + 1])) / h;
+        bool rising = f1 > f0;
+        double lo = 0, hi = 1;
+        double s = Math.Clamp(f0 / (f0 - f1), 0, 1);
+        for (int n = 0; n < 100; n++)
         {
-            double mid = 0.5 * (lo + hi);
-            double fmid = Value(channel, i, mid) - target;
-            if (fmid == 0)
+            double f = c0 + (s * (c1 + (s * (c2 + (s * c3))))) - target;
+            if (f == 0)
             {
-                return mid;
+                break;
             }
 
-            if ((fmid < 0) == (flo < 0))
+            if ((f < 0) == rising)
             {
-                lo = mid;
-                flo = fmid;
+                lo = s;
             }
             else
             {
-                hi = mid;
+                hi = s;
+            }
+
+            double slope = c1 + (s * ((2 * c2) + (3 * s * c3)));
+            double next = slope != 0 ? s - (f / slope) : double.NaN;
+            if (!(next > lo && next < hi))
+            {
+                next = 0.5 * (lo + hi);
+            }
+
+            bool done = Math.Abs(next - s) <= tolerance || hi - lo <= tolerance;
+            s = next;
+            if (done)
+            {
+                break;
             }
         }
 
-        return 0.5 * (lo + hi);
+        return _x[i] + (s * h);
     }
 
     private static double[] Derivatives(double[] x, double[] y)

@@ -25,6 +25,12 @@ public sealed record ReconciliationOptions
     /// <summary>Iteration limit of the bilinear iteration; default 50. A flow-only network needs one step.</summary>
     public int MaxIterations { get; init; } = 50;
 
+    /// <summary>
+    /// Solve every step by the dense projection, never on the band: the reference the banded step is tested against
+    /// (the same answers to roundoff, much slower for long trains).
+    /// </summary>
+    internal bool DenseReference { get; init; }
+
     /// <summary>Throws <see cref="ArgumentOutOfRangeException"/> when a setting is outside its range.</summary>
     public void Validate()
     {

@@ -124,6 +124,9 @@ public sealed class ReconciliationProblem
     /// <summary>The settings used.</summary>
     public ReconciliationOptions Options => _options;
 
+    /// <summary>Whether any layout prepared so far takes its steps on the band (for the tests).</summary>
+    internal bool UsesBand => _layouts.Values.Any(l => l.UsesBand);
+
     /// <summary>
     /// Prepares a reconciliation. The measurements fix which quantities are measured and their standard deviations;
     /// their values are the default readings of <see cref="Reconcile()"/>.

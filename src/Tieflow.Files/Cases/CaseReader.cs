@@ -115,7 +115,7 @@ public static class CaseReader
             return null;
         }
 
-        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        string unit = system.FlowUnit;
         double? flow = o.Get("flow", flowRequired)?.AsNumber(0, 1e9, unit: unit);
         Ternary? composition = o.Get("composition") is { } c ? SystemFileReader.ReadComposition(c, system) : null;
         if ((flowRequired && flow is null) || composition is null)
@@ -195,7 +195,7 @@ public static class CaseReader
             return (null, null);
         }
 
-        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        string unit = system.FlowUnit;
         JsonValue flowValue = so.Get("flow")!.Value;
         Ternary? composition = so.Get("composition") is { } c ? SystemFileReader.ReadComposition(c, system) : null;
         if (arrangement is not null && arrangement != "crosscurrent")

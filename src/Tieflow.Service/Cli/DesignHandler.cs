@@ -19,7 +19,7 @@ internal static class DesignHandler
 
         var design = new CascadeDesign(c.System.Model, c.TemperatureKelvin);
         DesignTarget target = d.Target;
-        string unit = c.System.System.Basis == Core.Chemistry.CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        string unit = c.System.System.FlowUnit;
 
         if (d.Find == DesignGoal.MinimumSolvent)
         {

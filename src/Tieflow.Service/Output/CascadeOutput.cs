@@ -85,7 +85,7 @@ internal static class CascadeOutput
         rows.Add((result.Arrangement == CascadeArrangement.Crosscurrent ? "combined extract" : "final extract", null, result.Extract));
         console.Write(TextOutput.StreamTable(system, rows));
         console.WriteLine($"recovery of {system.Solute.Id} into the extract: {result.Recovery:P2}; balance residual {result.BalanceResidual:E1}; {result.Iterations} iteration(s)");
-        string unit = system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+        string unit = system.FlowUnit;
         string factor = figures.ExtractionFactor is double f ? $"; extraction factor {f:G4}" : string.Empty;
         console.WriteLine($"solvent-to-feed ratio {figures.SolventToFeedRatio:G4}{factor}; {system.Solvent.Id} dissolved in the final raffinate {figures.SolventInRaffinate:G4} {unit}");
         TextOutput.WriteWarnings(console, warnings);

@@ -44,7 +44,7 @@ internal static class JsonOutput
         w.WriteString("system", systemName);
         w.WriteString("basis", mass ? "mass" : "mole");
         w.WriteStartObject("units");
-        w.WriteString("flow", mass ? "kg/h" : "kmol/h");
+        w.WriteString("flow", system.FlowUnit);
         w.WriteString("composition", mass ? "mass fraction" : "mole fraction");
         w.WriteString("temperature", "K");
         w.WriteEndObject();

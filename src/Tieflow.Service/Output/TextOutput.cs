@@ -39,7 +39,7 @@ internal static class TextOutput
     }
 
     /// <summary>The flow unit of a system's basis.</summary>
-    public static string FlowUnit(TernarySystem system) => system.Basis == CompositionBasis.Mass ? "kg/h" : "kmol/h";
+    public static string FlowUnit(TernarySystem system) => system.FlowUnit;
 
     /// <summary>A column whose header is plain text (ids are never read as console markup).</summary>
     public static TableColumn Column(string header, bool right) =>

@@ -55,4 +55,20 @@ public sealed class TernarySystemTests
             ],
             CompositionBasis.Mass));
     }
+
+    [Theory]
+    [InlineData(CompositionBasis.Mass, "kg/h")]
+    [InlineData(CompositionBasis.Mole, "kmol/h")]
+    public void FlowUnit_FollowsTheBasis(CompositionBasis basis, string unit)
+    {
+        Assert.Equal(unit, basis.FlowUnit());
+        var system = new TernarySystem(
+            [
+                new Component("a", ComponentRole.Solute, 50),
+                new Component("b", ComponentRole.Diluent, 18),
+                new Component("c", ComponentRole.Solvent, 100),
+            ],
+            basis);
+        Assert.Equal(unit, system.FlowUnit);
+    }
 }
