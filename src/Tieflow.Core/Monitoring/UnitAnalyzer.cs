@@ -24,6 +24,12 @@ namespace Tieflow.Core.Monitoring;
 public sealed class UnitAnalyzer
 {
     private const double SecondsPerHour = 3600;
+
+    // Window means in the line that gives each stage's raffinate trend (two hours of 30-minute windows).
+    private const int TrendPoints = 4;
+
+    // A trend larger than this many of its sigmas means the hold-ups still accumulate.
+    private const double TrendSigmas = 3;
     private readonly UnitModel _model;
     private readonly UnitDescription _unit;
     private readonly AnalysisSettings _settings;
@@ -35,6 +41,7 @@ public sealed class UnitAnalyzer
     private readonly Dictionary<string, (long Minute, double Sum, int Count)> _minuteMeans = new(StringComparer.Ordinal);
     private readonly AlertBook _alerts;
     private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
+    private readonly RaffinateTrend _trend;
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -107,6 +114,7 @@ public sealed class UnitAnalyzer
         _lastSigma = new double[n];
         _sumEfficiency = new double[n];
         _countEfficiency = new int[n];
+        _trend = new RaffinateTrend(n, TrendPoints);
         foreach (string tag in KeyTags())
         {
             _steadyFilters[tag] = new CaoRhinehartFilter();
@@ -355,7 +363,13 @@ public sealed class UnitAnalyzer
         }
 
         double temperature = StageTemperatures(tags, problemTags, out double?[] stageTemperatures);
-        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady) && AnalyzersSettled(measurements);
+        double centreHours = ((start - DateTimeOffset.UnixEpoch).TotalHours + (end - DateTimeOffset.UnixEpoch).TotalHours) / 2;
+        (double Slope, double Sigma)?[] slopes = RaffinateSlopes(byTag, centreHours);
+
+        // The gate: steady flows and key compositions (Cao-Rhinehart), and settled analyzers (no step from the previous
+        // window, no significant trend in any stage's raffinate over the last two hours).
+        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady)
+            && AnalyzersSettled(measurements) && slopes.All(t => t is not (double sl, double sg) || Math.Abs(sl) <= TrendSigmas * sg);
         if (steady)
         {
             _steadyCount++;
@@ -524,6 +538,28 @@ public sealed class UnitAnalyzer
     /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
     /// accumulate solute is biased.
     /// </summary>
+    /// <summary>Per stage, the trend of the raffinate leaving it (null where its analyzer has no full history).</summary>
+    private (double Slope, double Sigma)?[] RaffinateSlopes(Dictionary<string, WindowMeasurement> byTag, double centreHours)
+    {
+        var slopes = new (double Slope, double Sigma)?[_unit.Stages];
+        double span = (TrendPoints - 1 + 0.01) * _settings.WindowLength.TotalHours;
+        for (int k = 1; k <= _unit.Stages; k++)
+        {
+            QuantityKey key = QuantityKey.FractionOf(_model.StreamId(UnitStream.RaffinateOf(k)), _soluteId);
+            WindowMeasurement? m = byTag.Values.FirstOrDefault(w => w.Key == key && _model.Binding(w.Tag)!.Instrument.IsAnalyzer);
+            if (m is null)
+            {
+                _trend.Forget(k);
+                continue;
+            }
+
+            _trend.Add(k, centreHours, m.Value, m.Sigma);
+            slopes[k - 1] = _trend.Slope(k, centreHours, span);
+        }
+
+        return slopes;
+    }
+
     private bool AnalyzersSettled(List<WindowMeasurement> measurements)
     {
         bool settled = true;
@@ -741,6 +777,7 @@ public sealed class UnitAnalyzer
 
             if (_baselineCount[k] < _settings.BaselineWindows)
             {
+
                 // Learn the baseline (mean and variance of E across steady windows) before judging drift.
                 _baselineCount[k]++;
                 double delta = e.Value - _baseline[k];
@@ -750,7 +787,8 @@ public sealed class UnitAnalyzer
             }
 
             double spread = _baselineCount[k] > 1 ? _baselineVariance[k] / (_baselineCount[k] - 1) : 0;
-            double sigma = Math.Sqrt((e.Sigma * e.Sigma) + spread);
+            double model = _settings.EfficiencyModelSigma;
+            double sigma = Math.Sqrt((e.Sigma * e.Sigma) + spread + (model * model));
             double z = (_baseline[k] - e.Value) / sigma;
             _cusum[k] = Math.Max(0, _cusum[k] + z - _settings.EfficiencyDriftDeadband);
             if (_cusum[k] > 10 * _settings.EfficiencyDriftSigmas)
