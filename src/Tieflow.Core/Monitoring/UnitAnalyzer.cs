@@ -55,6 +55,7 @@ public sealed class UnitAnalyzer
     private readonly List<(DateTimeOffset Start, DateTimeOffset End, double Value, double Sigma)> _predictions = [];
     private readonly List<LabComparison> _labComparisons = [];
     private readonly List<(DateTimeOffset Time, double Value)> _softTrace = [];
+    private readonly List<EfficiencyPoint> _efficiencyTrace = [];
     private readonly string _soluteId;
     private readonly string _softSensorName;
     private double _labBias;
@@ -253,6 +254,7 @@ public sealed class UnitAnalyzer
         SoftSensor = (_softSensorName, _softLast),
         LabComparisons = _labComparisons,
         SoftSensorTrace = _softTrace,
+        EfficiencyTrace = _efficiencyTrace,
     };
 
     private long WindowIndex(DateTimeOffset t) => (long)Math.Floor((t - DateTimeOffset.UnixEpoch).Ticks / (double)_settings.WindowLength.Ticks);
@@ -435,7 +437,7 @@ public sealed class UnitAnalyzer
             {
                 anyUnobserved = true;
             }
-            else if (e.Status == EfficiencyStatus.Determined)
+            else if (e.Status == EfficiencyStatus.Determined && !StreamsDisputed(e.Stage, rec.SuspectTags))
             {
                 efficiencies[e.Stage - 1] = new EstimatedValue(e.Value, e.Sigma);
             }
@@ -458,6 +460,7 @@ public sealed class UnitAnalyzer
         {
             if (efficiencies[k] is { } est && steady)
             {
+                _efficiencyTrace.Add(new EfficiencyPoint(end, k + 1, est.Value, est.Sigma, anyUnobserved && _overall.TheoreticalStages is double ts && double.IsFinite(ts) ? ts : null));
                 _lastEfficiency[k] = est.Value;
                 _lastSigma[k] = est.Sigma;
                 _sumEfficiency[k] += est.Value;
@@ -538,6 +541,26 @@ public sealed class UnitAnalyzer
     /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
     /// accumulate solute is biased.
     /// </summary>
+    /// <summary>
+    /// True when the gross-error tests removed an analyzer of one of the stage's own streams (the raffinate entering and
+    /// leaving it, the extract leaving it): its efficiency would come from values the balances had to infer, and the
+    /// window says nothing reliable about that stage.
+    /// </summary>
+    private bool StreamsDisputed(int stage, IReadOnlyList<string> suspects)
+    {
+        UnitStream inlet = stage == 1 ? UnitStream.Feed : UnitStream.RaffinateOf(stage - 1);
+        foreach (string tag in suspects)
+        {
+            Instrument i = _model.Binding(tag)!.Instrument;
+            if (i.Quantity == InstrumentQuantity.Fraction && i.Stream is UnitStream s && (s == inlet || s == UnitStream.RaffinateOf(stage) || s == UnitStream.ExtractOf(stage)))
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
     /// <summary>Per stage, the trend of the raffinate leaving it (null where its analyzer has no full history).</summary>
     private (double Slope, double Sigma)?[] RaffinateSlopes(Dictionary<string, WindowMeasurement> byTag, double centreHours)
     {
@@ -746,10 +769,14 @@ public sealed class UnitAnalyzer
             double theoretical = double.NaN;
             try
             {
+                // The stages count for the raffinate the fitted efficiency gives, not for the reconciled raffinate
+                // itself: near equilibrium stages the reconciled value's noise can fall below what any efficiency up to
+                // 1 reaches, and the count of a lean raffinate is very sensitive to it (5 design stages read 5.6).
                 var design = new CascadeDesign(_unit.Equilibrium, temperature);
-                if (raffinateSolute > 0 && raffinateSolute < feed.Composition.Solute)
+                double modelled = Raffinate(e);
+                if (modelled > 0 && modelled < feed.Composition.Solute)
                 {
-                    theoretical = design.FindStages(feed, solvent, DesignTarget.RaffinateFraction(raffinateSolute)).FractionalStages;
+                    theoretical = design.FindStages(feed, solvent, DesignTarget.RaffinateFraction(modelled)).FractionalStages;
                 }
             }
             catch (Exception ex) when (ex is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)
@@ -887,14 +914,20 @@ public sealed class UnitAnalyzer
             output);
     }
 
+    /// <summary>
+    /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
+    /// noise, but a Murphree stage beyond equilibrium is not a stage the model can solve.
+    /// </summary>
+    private double[] ModelEfficiencies() => [.. _lastEfficiency.Select(e => Math.Clamp(e, 0.02, 1))];
+
     private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady)
     {
         try
         {
             var solver = new CascadeSolver(_unit.Equilibrium, temperature);
-            double x = solver.Solve(_unit.Arrangement, feed, solvent, _lastEfficiency).Raffinate.Composition.Solute;
+            double[] eff = ModelEfficiencies();
+            double x = solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
             double variance = 0;
-            double[] eff = [.. _lastEfficiency];
             for (int k = 0; k < eff.Length; k++)
             {
                 double s = _lastSigma[k] > 0 ? _lastSigma[k] : 0.02;
@@ -924,7 +957,7 @@ public sealed class UnitAnalyzer
                 return null;
             }
 
-            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), _lastEfficiency);
+            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), ModelEfficiencies());
             return r.SolventFlow / feed.Flow;
         }
         catch (Exception e) when (e is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)
