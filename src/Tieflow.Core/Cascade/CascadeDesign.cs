@@ -385,7 +385,13 @@ public sealed class CascadeDesign
             }
 
             // Stage 1 may leave a raffinate richer in solute (as a fraction) than an unsaturated feed; after it the
-            // raffinate must get leaner, or the steps have stalled at a pinch.
+            // raffinate must get leaner, or the steps have stalled at a pinch. A stage that lands on the target within
+            // rounding (the raffinate of exactly n stages, say) has no leaner extract to step to: it is the last one.
+            if (stalled && x - xt <= TargetRounding * (feed.Composition.Solute - xt))
+            {
+                return n;
+            }
+
             if (stalled)
             {
                 break;
@@ -397,6 +403,9 @@ public sealed class CascadeDesign
 
         throw new InfeasibleSpecificationException($"The {xt:G6} raffinate target needs more than {MaxStages} stages at a solvent flow of {flow:G6} {FlowUnit} (the operating line pinches against a tie line): raise the solvent flow or relax the target.");
     }
+
+    // Relative to the solute removed, a step that misses the target by less than this has reached it.
+    private const double TargetRounding = 1e-9;
 
     private static double Dot(Ternary a, Ternary b) => (a.Solute * b.Solute) + (a.Diluent * b.Diluent) + (a.Solvent * b.Solvent);
 

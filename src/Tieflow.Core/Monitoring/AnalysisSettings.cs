@@ -16,6 +16,14 @@ public sealed record AnalysisSettings
     /// <summary><c>efficiencyDriftDeadband</c>: allowance k of that CUSUM, in sigmas (a drop smaller than this is ignored).</summary>
     public double EfficiencyDriftDeadband { get; init; } = 1.0;
 
+    /// <summary>
+    /// <c>efficiencyModelSigma</c>: uncertainty of a stage efficiency that its propagated sigma does not hold, added in
+    /// quadrature before the drift test: the balances take the window as steady while a train with settlers holding an
+    /// hour of flow still moves slowly for many hours after a feed change (window-to-window scatter of a few hundredths
+    /// on the demo train; common practice, no source).
+    /// </summary>
+    public double EfficiencyModelSigma { get; init; } = 0.02;
+
     /// <summary><c>entrainmentFraction</c>: carried-over fraction that raises an entrainment alert.</summary>
     public double EntrainmentFraction { get; init; } = 0.005;
 
@@ -77,6 +85,7 @@ public sealed record AnalysisSettings
                 "windowLength" => s with { WindowLength = TimeSpan.FromSeconds(v) },
                 "efficiencyDriftSigmas" => s with { EfficiencyDriftSigmas = v },
                 "efficiencyDriftDeadband" => s with { EfficiencyDriftDeadband = v },
+                "efficiencyModelSigma" => s with { EfficiencyModelSigma = v },
                 "entrainmentFraction" => s with { EntrainmentFraction = v },
                 "entrainmentDeadband" => s with { EntrainmentDeadband = v },
                 "solventLossKgPerHour" => s with { SolventLossKgPerHour = v },

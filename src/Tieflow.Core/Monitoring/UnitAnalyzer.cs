@@ -24,6 +24,12 @@ namespace Tieflow.Core.Monitoring;
 public sealed class UnitAnalyzer
 {
     private const double SecondsPerHour = 3600;
+
+    // Window means in the line that gives each stage's raffinate trend (two hours of 30-minute windows).
+    private const int TrendPoints = 4;
+
+    // A trend larger than this many of its sigmas means the hold-ups still accumulate.
+    private const double TrendSigmas = 3;
     private readonly UnitModel _model;
     private readonly UnitDescription _unit;
     private readonly AnalysisSettings _settings;
@@ -36,6 +42,7 @@ public sealed class UnitAnalyzer
     private readonly Dictionary<string, TagSlot> _slots = new(StringComparer.Ordinal);
     private readonly AlertBook _alerts;
     private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
+    private readonly RaffinateTrend _trend;
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -49,6 +56,7 @@ public sealed class UnitAnalyzer
     private readonly List<(DateTimeOffset Start, DateTimeOffset End, double Value, double Sigma)> _predictions = [];
     private readonly List<LabComparison> _labComparisons = [];
     private readonly List<(DateTimeOffset Time, double Value)> _softTrace = [];
+    private readonly List<EfficiencyPoint> _efficiencyTrace = [];
     private readonly string _soluteId;
     private readonly string _softSensorName;
     private double _labBias;
@@ -108,6 +116,7 @@ public sealed class UnitAnalyzer
         _lastSigma = new double[n];
         _sumEfficiency = new double[n];
         _countEfficiency = new int[n];
+        _trend = new RaffinateTrend(n, TrendPoints);
         foreach (string tag in KeyTags())
         {
             _steadyFilters[tag] = new CaoRhinehartFilter();
@@ -261,6 +270,7 @@ public sealed class UnitAnalyzer
         SoftSensor = (_softSensorName, _softLast),
         LabComparisons = _labComparisons,
         SoftSensorTrace = _softTrace,
+        EfficiencyTrace = _efficiencyTrace,
     };
 
     private long WindowIndex(DateTimeOffset t) => (long)Math.Floor((t - DateTimeOffset.UnixEpoch).Ticks / (double)_settings.WindowLength.Ticks);
@@ -371,7 +381,13 @@ public sealed class UnitAnalyzer
         }
 
         double temperature = StageTemperatures(tags, problemTags, out double?[] stageTemperatures);
-        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady) && AnalyzersSettled(measurements);
+        double centreHours = ((start - DateTimeOffset.UnixEpoch).TotalHours + (end - DateTimeOffset.UnixEpoch).TotalHours) / 2;
+        (double Slope, double Sigma)?[] slopes = RaffinateSlopes(byTag, centreHours);
+
+        // The gate: steady flows and key compositions (Cao-Rhinehart), and settled analyzers (no step from the previous
+        // window, no significant trend in any stage's raffinate over the last two hours).
+        bool steady = _steadyFilters.Count > 0 && _steadyFilters.Values.All(f => f.IsSteady)
+            && AnalyzersSettled(measurements) && slopes.All(t => t is not (double sl, double sg) || Math.Abs(sl) <= TrendSigmas * sg);
         if (steady)
         {
             _steadyCount++;
@@ -437,7 +453,7 @@ public sealed class UnitAnalyzer
             {
                 anyUnobserved = true;
             }
-            else if (e.Status == EfficiencyStatus.Determined)
+            else if (e.Status == EfficiencyStatus.Determined && !StreamsDisputed(e.Stage, rec.SuspectTags))
             {
                 efficiencies[e.Stage - 1] = new EstimatedValue(e.Value, e.Sigma);
             }
@@ -460,6 +476,7 @@ public sealed class UnitAnalyzer
         {
             if (efficiencies[k] is { } est && steady)
             {
+                _efficiencyTrace.Add(new EfficiencyPoint(end, k + 1, est.Value, est.Sigma, anyUnobserved && _overall.TheoreticalStages is double ts && double.IsFinite(ts) ? ts : null));
                 _lastEfficiency[k] = est.Value;
                 _lastSigma[k] = est.Sigma;
                 _sumEfficiency[k] += est.Value;
@@ -540,6 +557,48 @@ public sealed class UnitAnalyzer
     /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
     /// accumulate solute is biased.
     /// </summary>
+    /// <summary>
+    /// True when the gross-error tests removed an analyzer of one of the stage's own streams (the raffinate entering and
+    /// leaving it, the extract leaving it): its efficiency would come from values the balances had to infer, and the
+    /// window says nothing reliable about that stage.
+    /// </summary>
+    private bool StreamsDisputed(int stage, IReadOnlyList<string> suspects)
+    {
+        UnitStream inlet = stage == 1 ? UnitStream.Feed : UnitStream.RaffinateOf(stage - 1);
+        foreach (string tag in suspects)
+        {
+            Instrument i = _model.Binding(tag)!.Instrument;
+            if (i.Quantity == InstrumentQuantity.Fraction && i.Stream is UnitStream s && (s == inlet || s == UnitStream.RaffinateOf(stage) || s == UnitStream.ExtractOf(stage)))
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    /// <summary>Per stage, the trend of the raffinate leaving it (null where its analyzer has no full history).</summary>
+    private (double Slope, double Sigma)?[] RaffinateSlopes(Dictionary<string, WindowMeasurement> byTag, double centreHours)
+    {
+        var slopes = new (double Slope, double Sigma)?[_unit.Stages];
+        double span = (TrendPoints - 1 + 0.01) * _settings.WindowLength.TotalHours;
+        for (int k = 1; k <= _unit.Stages; k++)
+        {
+            QuantityKey key = QuantityKey.FractionOf(_model.StreamId(UnitStream.RaffinateOf(k)), _soluteId);
+            WindowMeasurement? m = byTag.Values.FirstOrDefault(w => w.Key == key && _model.Binding(w.Tag)!.Instrument.IsAnalyzer);
+            if (m is null)
+            {
+                _trend.Forget(k);
+                continue;
+            }
+
+            _trend.Add(k, centreHours, m.Value, m.Sigma);
+            slopes[k - 1] = _trend.Slope(k, centreHours, span);
+        }
+
+        return slopes;
+    }
+
     private bool AnalyzersSettled(List<WindowMeasurement> measurements)
     {
         bool settled = true;
@@ -726,10 +785,14 @@ public sealed class UnitAnalyzer
             double theoretical = double.NaN;
             try
             {
+                // The stages count for the raffinate the fitted efficiency gives, not for the reconciled raffinate
+                // itself: near equilibrium stages the reconciled value's noise can fall below what any efficiency up to
+                // 1 reaches, and the count of a lean raffinate is very sensitive to it (5 design stages read 5.6).
                 var design = new CascadeDesign(_unit.Equilibrium, temperature);
-                if (raffinateSolute > 0 && raffinateSolute < feed.Composition.Solute)
+                double modelled = Raffinate(e);
+                if (modelled > 0 && modelled < feed.Composition.Solute)
                 {
-                    theoretical = design.FindStages(feed, solvent, DesignTarget.RaffinateFraction(raffinateSolute)).FractionalStages;
+                    theoretical = design.FindStages(feed, solvent, DesignTarget.RaffinateFraction(modelled)).FractionalStages;
                 }
             }
             catch (Exception ex) when (ex is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)
@@ -757,6 +820,7 @@ public sealed class UnitAnalyzer
 
             if (_baselineCount[k] < _settings.BaselineWindows)
             {
+
                 // Learn the baseline (mean and variance of E across steady windows) before judging drift.
                 _baselineCount[k]++;
                 double delta = e.Value - _baseline[k];
@@ -766,7 +830,8 @@ public sealed class UnitAnalyzer
             }
 
             double spread = _baselineCount[k] > 1 ? _baselineVariance[k] / (_baselineCount[k] - 1) : 0;
-            double sigma = Math.Sqrt((e.Sigma * e.Sigma) + spread);
+            double model = _settings.EfficiencyModelSigma;
+            double sigma = Math.Sqrt((e.Sigma * e.Sigma) + spread + (model * model));
             double z = (_baseline[k] - e.Value) / sigma;
             _cusum[k] = Math.Max(0, _cusum[k] + z - _settings.EfficiencyDriftDeadband);
             if (_cusum[k] > 10 * _settings.EfficiencyDriftSigmas)
@@ -865,14 +930,20 @@ public sealed class UnitAnalyzer
             output);
     }
 
+    /// <summary>
+    /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
+    /// noise, but a Murphree stage beyond equilibrium is not a stage the model can solve.
+    /// </summary>
+    private double[] ModelEfficiencies() => [.. _lastEfficiency.Select(e => Math.Clamp(e, 0.02, 1))];
+
     private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady)
     {
         try
         {
             var solver = new CascadeSolver(_unit.Equilibrium, temperature);
-            double x = solver.Solve(_unit.Arrangement, feed, solvent, _lastEfficiency).Raffinate.Composition.Solute;
+            double[] eff = ModelEfficiencies();
+            double x = solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
             double variance = 0;
-            double[] eff = [.. _lastEfficiency];
             for (int k = 0; k < eff.Length; k++)
             {
                 double s = _lastSigma[k] > 0 ? _lastSigma[k] : 0.02;
@@ -902,7 +973,7 @@ public sealed class UnitAnalyzer
                 return null;
             }
 
-            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), _lastEfficiency);
+            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), ModelEfficiencies());
             return r.SolventFlow / feed.Flow;
         }
         catch (Exception e) when (e is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)

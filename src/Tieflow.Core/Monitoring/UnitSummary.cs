@@ -49,4 +49,7 @@ public sealed record UnitSummary
 
     /// <summary>Soft-sensor values by window time, for evaluation against the truth.</summary>
     public required IReadOnlyList<(DateTimeOffset Time, double Value)> SoftSensorTrace { get; init; }
+
+    /// <summary>The efficiency of every stage in every steady window (one per stage and window; a few kilobytes a day).</summary>
+    public IReadOnlyList<EfficiencyPoint> EfficiencyTrace { get; init; } = [];
 }

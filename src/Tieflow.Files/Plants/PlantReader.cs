@@ -201,6 +201,7 @@ public static partial class PlantReader
     {
         ["efficiencyDriftSigmas"] = (0, 100, "(CUSUM decision limit, in sigmas of the efficiency)"),
         ["efficiencyDriftDeadband"] = (0, 1, "(drop of efficiency below the baseline that the CUSUM ignores, in sigmas)"),
+        ["efficiencyModelSigma"] = (0, 1, "(uncertainty of an efficiency beyond its propagated sigma)"),
         ["entrainmentFraction"] = (0, 0.5, "(carried-over fraction that raises the alert)"),
         ["entrainmentDeadband"] = (0, 0.5, "(fraction below the set point at which it clears)"),
         ["solventLossKgPerHour"] = (0, 1e6, "(unaccounted solvent flow that raises the alert, kg/h or kmol/h)"),

@@ -317,6 +317,8 @@ internal static class ReplayCommand
             }
 
             w.WriteEndObject();
+            WriteErrors(w, "efficiencyVsTruthByUnit", result, e => e.Efficiency);
+            WriteErrors(w, "theoreticalStagesVsTruthByUnit", result, e => e.TheoreticalStages);
             w.WriteEndObject();
         }
 
@@ -351,6 +353,24 @@ internal static class ReplayCommand
 
         w.WriteEndObject();
         w.WriteNumber("records", result.Records);
+        w.WriteEndObject();
+    }
+
+    private static void WriteErrors(Utf8JsonWriter w, string name, ReplayResult result, Func<EvaluationResult, EstimateError> select)
+    {
+        w.WriteStartObject(name);
+        foreach ((UnitDescription unit, _, EvaluationResult? e) in result.Units)
+        {
+            if (e is not null && select(e) is { Count: > 0 } error)
+            {
+                w.WriteStartObject(unit.Id);
+                w.WriteNumber("estimates", error.Count);
+                Number(w, "maxAbsError", error.MaxAbs);
+                Number(w, "rmse", error.Rmse);
+                w.WriteEndObject();
+            }
+        }
+
         w.WriteEndObject();
     }
 
@@ -393,6 +413,15 @@ internal static class ReplayCommand
                 }
 
                 o.WriteLine($"  false alerts {e.FalseAlerts.Count}; soft sensor RMSE against the truth {e.SoftSensorRmseVsTruth:G3}");
+                if (e.Efficiency.Count > 0)
+                {
+                    o.WriteLine($"  stage efficiencies of {e.Efficiency.Count} steady estimates against the truth: largest error {e.Efficiency.MaxAbs:F3}, RMSE {e.Efficiency.Rmse:F3}");
+                }
+
+                if (e.TheoreticalStages.Count > 0)
+                {
+                    o.WriteLine($"  theoretical stages against the truth: largest error {e.TheoreticalStages.MaxAbs:F2}, RMSE {e.TheoreticalStages.Rmse:F2}");
+                }
             }
         }
 

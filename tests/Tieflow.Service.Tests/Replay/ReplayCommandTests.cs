@@ -64,6 +64,33 @@ public sealed class ReplayCommandTests
     }
 
     [Fact]
+    [Trait("Category", "Slow")]
+    public void Replay_CleanTwoDaysWithNormalChanges_RaisesNoAlert()
+    {
+        // The demo's clean scenario: more feed, a leaner feed, more solvent, a warmer day, a feed change on the column.
+        using var folder = new TempFolder();
+        string scenarioPath = Path.Combine(RepositoryPaths.ConfigSamples, "scenarios", "clean.scenario.json");
+        (string history, string labs, string truth) = SimulatedHistory.Write(ScenarioReader.Load(scenarioPath), folder.Path);
+        string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json");
+
+        CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--json");
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        using JsonDocument doc = JsonDocument.Parse(run.Output);
+        JsonElement evaluation = doc.RootElement.GetProperty("evaluation");
+        Assert.True(evaluation.GetProperty("falseAlerts").GetInt32() == 0, run.Output);
+        foreach (JsonElement unit in doc.RootElement.GetProperty("units").EnumerateArray())
+        {
+            Assert.True(unit.GetProperty("alerts").GetArrayLength() == 0, unit.ToString());
+            Assert.True(unit.GetProperty("steady").GetInt32() > 0, unit.ToString());
+        }
+
+        JsonElement byUnit = evaluation.GetProperty("softSensorRmseVsTruthByUnit");
+        Assert.InRange(byUnit.GetProperty("X300").GetDouble(), 0, 0.2 * 0.1);
+        Assert.InRange(byUnit.GetProperty("C200").GetDouble(), 0, 0.2 * 0.0008);
+    }
+
+    [Fact]
     public void Replay_MissingHistory_IsBadInput()
     {
         CliRun run = CliRun.Of("replay", "--plant", Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json"), "--history", "/nonexistent/history.csv");

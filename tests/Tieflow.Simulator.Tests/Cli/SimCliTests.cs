@@ -36,6 +36,13 @@ public sealed class SimCliTests
             Assert.Equal((int)Math.Ceiling(scenario.Duration.TotalMinutes), t.Samples.Count);
             Assert.All(t.Samples, s => Assert.Equal(unit.Stages, s.StageEfficiency.Count));
             Assert.Equal(unit.Kind == Core.Plant.UnitKind.Column, t.Samples[0].TheoreticalStages is not null);
+            if (unit.Kind == Core.Plant.UnitKind.Column)
+            {
+                // The stage count is known whenever the column runs near its design; a design count that lands on a
+                // whole number of stages within rounding once gave none for most of a steady run.
+                int known = t.Samples.Count(s => s.TheoreticalStages is not null);
+                Assert.True(known >= 0.95 * t.Samples.Count, $"{unit.Id}: theoretical stages known in {known} of {t.Samples.Count} truth samples");
+            }
         }
     }
 

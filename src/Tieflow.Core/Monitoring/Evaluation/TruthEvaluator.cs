@@ -56,7 +56,27 @@ public static class TruthEvaluator
             falseAlerts.Add(a);
         }
 
-        return new EvaluationResult(detections, falseAlerts, Rmse(truth, summary));
+        var efficiency = new List<double>();
+        var theoretical = new List<double>();
+        foreach (EfficiencyPoint p in summary.EfficiencyTrace)
+        {
+            if (SampleAt(truth, p.Time) is not { } s || p.Stage > s.StageEfficiency.Count)
+            {
+                continue;
+            }
+
+            efficiency.Add(p.Value - s.StageEfficiency[p.Stage - 1]);
+            if (p.Stage == 1 && p.TheoreticalStages is double n && s.TheoreticalStages is double trueN)
+            {
+                theoretical.Add(n - trueN);
+            }
+        }
+
+        return new EvaluationResult(detections, falseAlerts, Rmse(truth, summary))
+        {
+            Efficiency = EstimateError.Of(efficiency),
+            TheoreticalStages = EstimateError.Of(theoretical),
+        };
     }
 
     /// <summary>Whether an alert's kind and subject match a fault.</summary>
