@@ -8,26 +8,14 @@ using Tieflow.Files;
 namespace Tieflow.Service.Replay;
 
 /// <summary>
-/// Runs recorded history through the same per-unit analysis as live operation, as fast as it goes. The history streams
+/// Runs recorded history through the same plant analysis as live operation (<see cref="PlantAnalysis"/>), as fast as it goes. The history streams
 /// (memory does not grow with its length); lab results enter at their reported time, never before.
 /// </summary>
 internal sealed class ReplayRunner
 {
-    private readonly Dictionary<string, UnitAnalyzer> _byTag = new(StringComparer.Ordinal);
-    private readonly List<UnitAnalyzer> _analyzers = [];
+    private readonly PlantAnalysis _analysis;
 
-    public ReplayRunner(PlantDescription plant)
-    {
-        foreach (UnitDescription u in plant.Units)
-        {
-            var a = new UnitAnalyzer(u);
-            _analyzers.Add(a);
-            foreach (Instrument i in u.Instruments)
-            {
-                _byTag[i.Tag] = a;
-            }
-        }
-    }
+    public ReplayRunner(PlantDescription plant) => _analysis = new PlantAnalysis(plant);
 
     /// <summary>Replays a history; records go to <paramref name="sink"/> as they are produced.</summary>
     /// <param name="history">The history rows, in time order give or take a few seconds.</param>
@@ -37,36 +25,17 @@ internal sealed class ReplayRunner
     public ReplayResult Run(IEnumerable<SignalSample> history, IReadOnlyList<LabResult> labs, Action<IReadOnlyList<MonitorRecord>> sink, Action<long>? progress = null)
     {
         var pendingLabs = new Queue<LabResult>(labs.OrderBy(l => l.Reported));
-        var unknown = new Dictionary<string, long>(StringComparer.Ordinal);
         var buffer = new List<MonitorRecord>(256);
         long rows = 0, records = 0;
-        DateTimeOffset last = DateTimeOffset.MinValue;
         foreach (SignalSample s in history)
         {
             rows++;
             while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= s.Time)
             {
-                LabResult lab = pendingLabs.Dequeue();
-                foreach (UnitAnalyzer a in AnalyzersFor(lab))
-                {
-                    a.AddLab(lab, buffer);
-                }
+                _analysis.AddLab(pendingLabs.Dequeue(), buffer);
             }
 
-            if (_byTag.TryGetValue(s.Tag, out UnitAnalyzer? analyzer))
-            {
-                analyzer.Add(s, buffer);
-            }
-            else
-            {
-                unknown[s.Tag] = unknown.TryGetValue(s.Tag, out long n) ? n + 1 : 1;
-            }
-
-            if (s.Time > last)
-            {
-                last = s.Time;
-            }
-
+            _analysis.Add(s, buffer);
             if (buffer.Count > 0)
             {
                 records += buffer.Count;
@@ -80,22 +49,14 @@ internal sealed class ReplayRunner
             }
         }
 
-        if (rows > 0)
+        if (rows > 0 && _analysis.LastTime is DateTimeOffset last)
         {
             while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= last)
             {
-                LabResult lab = pendingLabs.Dequeue();
-                foreach (UnitAnalyzer a in AnalyzersFor(lab))
-                {
-                    a.AddLab(lab, buffer);
-                }
+                _analysis.AddLab(pendingLabs.Dequeue(), buffer);
             }
 
-            foreach (UnitAnalyzer a in _analyzers)
-            {
-                a.Advance(last, buffer);
-            }
-
+            _analysis.Advance(last, buffer);
             records += buffer.Count;
             if (buffer.Count > 0)
             {
@@ -104,7 +65,7 @@ internal sealed class ReplayRunner
         }
 
         progress?.Invoke(rows);
-        return new ReplayResult([.. _analyzers.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], unknown, rows, records);
+        return new ReplayResult([.. _analysis.Units.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], new Dictionary<string, long>(_analysis.UnknownTags, StringComparer.Ordinal), rows, records);
     }
 
     /// <summary>Adds the evaluation against a truth file to a replay's result.</summary>
@@ -119,18 +80,5 @@ internal sealed class ReplayRunner
         }
 
         return result with { Units = units };
-    }
-
-    private IEnumerable<UnitAnalyzer> AnalyzersFor(LabResult lab)
-    {
-        int slash = lab.Stream.IndexOf('/', StringComparison.Ordinal);
-        if (slash > 0)
-        {
-            string unit = lab.Stream[..slash];
-            return _analyzers.Where(a => a.Model.Unit.Id == unit);
-        }
-
-        // Without a unit prefix a lab result belongs to the unit whose system has the component.
-        return _analyzers.Where(a => a.Model.ComponentIds.Contains(lab.Component));
     }
 }
