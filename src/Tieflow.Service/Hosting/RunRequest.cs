@@ -19,4 +19,7 @@ internal sealed record RunRequest(
 {
     /// <summary>Interval of the plain summary lines.</summary>
     public TimeSpan SummaryInterval { get; init; } = TimeSpan.FromSeconds(10);
+
+    /// <summary>The environment the secrets are read from (tests give their own).</summary>
+    public Func<string, string?> Environment { get; init; } = System.Environment.GetEnvironmentVariable;
 }

@@ -32,6 +32,9 @@ internal static class TieflowHost
             ["Logging:LogLevel:Default"] = request.Terminal ? "Warning" : "Information",
             ["Logging:LogLevel:Microsoft"] = "Warning",
             ["Logging:LogLevel:Polly"] = "Warning",
+
+            // The host's own report of a failed start repeats, with a stack trace, what the run command prints by key path.
+            ["Logging:LogLevel:Microsoft.Extensions.Hosting.Internal.Host"] = "Critical",
         });
         if (request.SettingsFile is null)
         {
@@ -69,7 +72,7 @@ internal static class TieflowHost
 
         builder.Services
             .AddTieflowClock()
-            .AddTieflowSettings(configuration, baseDirectory)
+            .AddTieflowSettings(configuration, baseDirectory, request.Environment)
             .AddTieflowSource()
             .AddTieflowMonitor()
             .AddTieflowHealth(configuration)

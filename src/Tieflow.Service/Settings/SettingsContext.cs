@@ -3,12 +3,14 @@ using Microsoft.Extensions.Configuration;
 namespace Tieflow.Service.Settings;
 
 /// <summary>
-/// What the validators need besides the options: the merged configuration (for the shape check and the secrets, which
-/// arrive as environment variables), the folder relative paths are resolved against, and whether the environment is
-/// part of the check (at start it is; <c>tieflow check FILE</c> checks only the file).
+/// What the validators need besides the options: the merged configuration (for the shape check), the folder relative
+/// paths are resolved against, the environment the secrets come from (never a settings key or the command line), and
+/// whether the environment is part of the check (at start it is; <c>tieflow check FILE</c> checks only the file).
 /// </summary>
-internal sealed class SettingsContext(IConfiguration configuration, string baseDirectory, bool checkEnvironment)
+internal sealed class SettingsContext(IConfiguration configuration, string baseDirectory, bool checkEnvironment, Func<string, string?>? environment = null)
 {
+    private readonly Func<string, string?> _environment = environment ?? Environment.GetEnvironmentVariable;
+
     public IConfiguration Configuration { get; } = configuration;
 
     public string BaseDirectory { get; } = baseDirectory;
@@ -18,6 +20,6 @@ internal sealed class SettingsContext(IConfiguration configuration, string baseD
     /// <summary>A path of the settings made absolute against <see cref="BaseDirectory"/>.</summary>
     public string Resolve(string path) => Path.GetFullPath(path, BaseDirectory);
 
-    /// <summary>A secret from the environment (through the configuration's environment layer), or null.</summary>
-    public string? Secret(string variable) => Configuration[variable] is { Length: > 0 } value ? value : null;
+    /// <summary>A secret from the environment, or null when the variable is not set or empty.</summary>
+    public string? Secret(string variable) => _environment(variable) is { Length: > 0 } value ? value : null;
 }
