@@ -44,7 +44,7 @@ internal sealed class MonitorService : BackgroundService
     private readonly List<MonitorRecord> _pending = [];
     private readonly List<MonitorRecord> _produced = new(256);
     private readonly HashSet<string> _reportedUnknown = new(StringComparer.Ordinal);
-    private readonly Dictionary<string, (DateTimeOffset Time, int Windows, Dictionary<int, StageStatus> Stages, SoftSensorStatus? Soft)> _latest = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, UnitLatest> _latest = new(StringComparer.Ordinal);
     private readonly Dictionary<string, string> _unitOfTag = new(StringComparer.Ordinal);
     private PlantDescription? _plant;
     private PlantAnalysis? _analysis;
@@ -270,15 +270,10 @@ internal sealed class MonitorService : BackgroundService
                     Log.AlertCleared(_logger, a.Unit, a.Kind, a.Time);
                     break;
                 case StageRecord st:
-                    var latest = Latest(st.Unit, st.Time);
-                    latest.Stages[st.Stage] = new StageStatus(st.Stage, st.Efficiency?.Value, st.Efficiency?.Sigma);
+                    Latest(st.Unit, st.Time).Stages[st.Stage] = new StageStatus(st.Stage, st.Efficiency?.Value, st.Efficiency?.Sigma);
                     break;
                 case SoftSensorRecord ss:
-                    var l = Latest(ss.Unit, ss.Time);
-                    _latest[ss.Unit] = l with { Soft = new SoftSensorStatus(ss.Sensor, ss.Time, ss.Value, ss.Sigma, ss.LabBias) };
-                    break;
-                case UnitRecord u:
-                    Latest(u.Unit, u.Time);
+                    Latest(ss.Unit, ss.Time).SoftSensor = new SoftSensorStatus(ss.Sensor, ss.Time, ss.Value, ss.Sigma, ss.LabBias);
                     break;
             }
         }
@@ -287,19 +282,20 @@ internal sealed class MonitorService : BackgroundService
         _records += records.Count;
     }
 
-    private (DateTimeOffset Time, int Windows, Dictionary<int, StageStatus> Stages, SoftSensorStatus? Soft) Latest(string unit, DateTimeOffset time)
+    /// <summary>The latest results of a unit, moved on to the window at <paramref name="time"/>.</summary>
+    private UnitLatest Latest(string unit, DateTimeOffset time)
     {
-        if (!_latest.TryGetValue(unit, out var latest))
+        if (!_latest.TryGetValue(unit, out UnitLatest? latest))
         {
-            latest = (time, 0, [], null);
+            latest = new UnitLatest();
+            _latest[unit] = latest;
         }
 
-        if (time > latest.Time || latest.Windows == 0)
+        if (latest.Window is null || time > latest.Window.Value)
         {
-            latest = latest with { Time = time, Windows = latest.Windows + 1 };
+            latest.Window = time;
         }
 
-        _latest[unit] = latest;
         return latest;
     }
 
@@ -423,15 +419,15 @@ internal sealed class MonitorService : BackgroundService
             foreach (UnitAnalyzer a in analysis.Units)
             {
                 UnitDescription u = a.Model.Unit;
-                _latest.TryGetValue(u.Id, out var latest);
-                var stages = Enumerable.Range(1, u.Stages).Select(k => latest.Stages is not null && latest.Stages.TryGetValue(k, out StageStatus? s) ? s : new StageStatus(k, null, null)).ToList();
+                UnitLatest? latest = _latest.GetValueOrDefault(u.Id);
+                var stages = Enumerable.Range(1, u.Stages).Select(k => latest is not null && latest.Stages.TryGetValue(k, out StageStatus? s) ? s : new StageStatus(k, null, null)).ToList();
                 var alerts = a.Alerts.Active.Select(e => new ActiveAlert(e.Key.Kind, RecordPoints.SeverityName(e.Severity), e.Key.Stage, e.Key.Tag, e.Raised, e.Message)).ToList();
                 if (analysis.InGap && _sourceStates.FirstOrDefault(s => s.Primary) is { Since: DateTimeOffset since, Reason: var reason })
                 {
                     alerts.Add(new ActiveAlert(PlantAnalysis.SourceGapKind, "medium", null, null, since, $"the data source is lost ({reason})"));
                 }
 
-                units.Add(new UnitStatus(u.Id, latest.Stages is null ? null : latest.Time, a.Summary().Windows, stages, latest.Soft, u.RaffinateSoluteSpec, alerts));
+                units.Add(new UnitStatus(u.Id, latest?.Window, a.Summary().Windows, stages, latest?.SoftSensor, u.RaffinateSoluteSpec, alerts));
             }
         }
 
@@ -445,5 +441,15 @@ internal sealed class MonitorService : BackgroundService
         string password = _settings.Secret(SourceOptionsValidator.PasswordVariable) is null ? "not set" : "set (not shown)";
         string token = _settings.Secret(StoreOptions.TokenVariable) is null ? "not set" : "set (not shown)";
         Log.Settings(_logger, s.Kind ?? "?", target, s.User ?? "(anonymous)", password, _store.Value.Kind, token, _labs.Value.Folder ?? "(none)");
+    }
+
+    /// <summary>A unit's results as the records of its windows arrive.</summary>
+    private sealed class UnitLatest
+    {
+        public DateTimeOffset? Window { get; set; }
+
+        public Dictionary<int, StageStatus> Stages { get; } = [];
+
+        public SoftSensorStatus? SoftSensor { get; set; }
     }
 }

@@ -8,6 +8,7 @@ namespace Tieflow.Service.Tests.Hosting;
 /// wrote. The simulated plant runs at a huge speed factor so that hours of plant time pass in seconds; assertions are
 /// on events and counts with generous margins.
 /// </summary>
+[Trait("Category", "Slow")]
 public sealed class RunEndToEndTests : IDisposable
 {
     private static readonly TimeSpan Patience = TimeSpan.FromSeconds(180);

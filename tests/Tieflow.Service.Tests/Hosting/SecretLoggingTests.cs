@@ -7,6 +7,7 @@ using Microsoft.Extensions.Logging;
 namespace Tieflow.Service.Tests.Hosting;
 
 /// <summary>The OPC UA password and the InfluxDB token never appear in a log message, the console or the status.</summary>
+[Trait("Category", "Slow")]
 public sealed class SecretLoggingTests : IDisposable
 {
     private const string Password = "pw-7f3a-never-logged";
