@@ -155,13 +155,15 @@ internal sealed class MonitorService : BackgroundService
         _phase = "stopping";
         Log.Stopping(_logger);
         await sourcesStop.CancelAsync().ConfigureAwait(false);
-        await allEnded.ConfigureAwait(false);
 
-        // What the sources delivered before they stopped is analysed too.
-        while (channel.Reader.TryRead(out var item))
+        // What the sources delivered before they stopped is analysed too. Reading on while they stop also keeps a
+        // full channel from holding a source back (the channel completes once every source has ended).
+        await foreach (var item in channel.Reader.ReadAllAsync(CancellationToken.None).ConfigureAwait(false))
         {
             Handle(item.Source, item.Event);
         }
+
+        await allEnded.ConfigureAwait(false);
 
         await FinishAsync().ConfigureAwait(false);
         if (sourcesEnded && !stoppingToken.IsCancellationRequested)
