@@ -15,9 +15,6 @@ internal static class DemoDefaults
     /// <summary>The scenario simulated by default.</summary>
     public static string Scenario => Path.Combine(Folder, "demo.scenario.json");
 
-    /// <summary>The store of the default, relative to the working directory.</summary>
-    public const string StorePath = "tieflow-data/tieflow.db";
-
     /// <summary>The settings layer of the default (the lowest layer; every other layer overrides it).</summary>
     public static IReadOnlyDictionary<string, string?> Settings() => new Dictionary<string, string?>
     {
@@ -26,6 +23,5 @@ internal static class DemoDefaults
         ["Tieflow:Source:Scenario"] = Scenario,
         ["Tieflow:Source:Speed"] = "60",
         ["Tieflow:Store:Kind"] = "sqlite",
-        ["Tieflow:Store:Path"] = StorePath,
     };
 }

@@ -12,7 +12,8 @@ namespace Tieflow.Service.Hosting;
 /// <c>--settings</c>, environment variables (<c>TIEFLOW__SOURCE__ENDPOINT</c> for <c>Tieflow:Source:Endpoint</c>; the
 /// secrets <c>TIEFLOW_OPCUA_PASSWORD</c> and <c>TIEFLOW_INFLUX_TOKEN</c>), the command line
 /// (<c>--Tieflow:Source:Speed=600</c>), and last <c>--store FILE</c>. Relative paths resolve against the folder of the
-/// settings file, or the working directory without one. Logs go to standard error.
+/// settings file, or the working directory without one; the default store, <c>tieflow-data/tieflow.db</c>, is under the
+/// working directory. Logs go to standard error.
 /// </summary>
 internal static class TieflowHost
 {
@@ -72,7 +73,7 @@ internal static class TieflowHost
 
         builder.Services
             .AddTieflowClock()
-            .AddTieflowSettings(configuration, baseDirectory, request.Environment)
+            .AddTieflowSettings(configuration, baseDirectory, request.WorkingDirectory, request.Environment)
             .AddTieflowSource()
             .AddTieflowMonitor()
             .AddTieflowHealth(configuration)

@@ -18,9 +18,9 @@ internal static class TieflowServices
     /// The settings sections bound to their options classes, each with its validator, all validated at start
     /// (<c>ValidateOnStart</c>); values whose shape is wrong are left out of the binding and reported by key path.
     /// </summary>
-    public static IServiceCollection AddTieflowSettings(this IServiceCollection services, IConfiguration configuration, string baseDirectory, Func<string, string?> environment)
+    public static IServiceCollection AddTieflowSettings(this IServiceCollection services, IConfiguration configuration, string baseDirectory, string workingDirectory, Func<string, string?> environment)
     {
-        var context = new SettingsContext(configuration, baseDirectory, checkEnvironment: true, environment);
+        var context = new SettingsContext(configuration, baseDirectory, checkEnvironment: true, environment, workingDirectory);
         IConfiguration good = SettingsShape.WithoutBadKeys(configuration);
         services.AddSingleton(context);
         services.AddOptions<TieflowOptions>().Bind(good.GetSection(TieflowOptions.Section)).ValidateOnStart();

@@ -7,7 +7,7 @@ namespace Tieflow.Service.Settings;
 /// paths are resolved against, the environment the secrets come from (never a settings key or the command line), and
 /// whether the environment is part of the check (at start it is; <c>tieflow check FILE</c> checks only the file).
 /// </summary>
-internal sealed class SettingsContext(IConfiguration configuration, string baseDirectory, bool checkEnvironment, Func<string, string?>? environment = null)
+internal sealed class SettingsContext(IConfiguration configuration, string baseDirectory, bool checkEnvironment, Func<string, string?>? environment = null, string? workingDirectory = null)
 {
     private readonly Func<string, string?> _environment = environment ?? Environment.GetEnvironmentVariable;
 
@@ -16,6 +16,9 @@ internal sealed class SettingsContext(IConfiguration configuration, string baseD
     public string BaseDirectory { get; } = baseDirectory;
 
     public bool CheckEnvironment { get; } = checkEnvironment;
+
+    /// <summary>The working directory of the run (the default store lives under it).</summary>
+    public string WorkingDirectory { get; } = workingDirectory ?? baseDirectory;
 
     /// <summary>A path of the settings made absolute against <see cref="BaseDirectory"/>.</summary>
     public string Resolve(string path) => Path.GetFullPath(path, BaseDirectory);

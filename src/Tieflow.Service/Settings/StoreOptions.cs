@@ -18,7 +18,10 @@ internal sealed class StoreOptions
     /// <summary><c>Kind</c>: <c>sqlite</c> (default) or <c>influxdb</c>.</summary>
     public string Kind { get; set; } = Sqlite;
 
-    /// <summary><c>Path</c>: the SQLite file (sqlite).</summary>
+    /// <summary>The SQLite file when the settings name none, relative to the working directory.</summary>
+    public const string DefaultPath = "tieflow-data/tieflow.db";
+
+    /// <summary><c>Path</c>: the SQLite file (sqlite); <see cref="DefaultPath"/> under the working directory when absent.</summary>
     public string? Path { get; set; }
 
     /// <summary><c>Url</c>: the InfluxDB server (influxdb).</summary>

@@ -10,7 +10,7 @@ internal sealed class StoreOptionsValidator(SettingsContext context) : SettingsV
         switch (options.Kind)
         {
             case StoreOptions.Sqlite:
-                Required(problems, $"{p}:Path", options.Path, "the SQLite file the records go to, for example tieflow-data/tieflow.db");
+                NotBlank(problems, $"{p}:Path", options.Path);
                 break;
             case StoreOptions.InfluxDb:
                 if (Required(problems, $"{p}:Url", options.Url, "the InfluxDB server, for example http://influx:8086")

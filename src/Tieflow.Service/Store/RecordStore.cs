@@ -58,7 +58,7 @@ internal sealed class RecordStore : IAsyncDisposable
             return new RecordStore(StoreOptions.InfluxDb, $"{options.Url} (org {options.Org}, bucket {options.Bucket}; outbox {outboxPath})", new OutboxSink(outbox), time, outbox, forwarder, writer);
         }
 
-        string path = settings.Resolve(options.Path!);
+        string path = options.Path is null ? Path.GetFullPath(StoreOptions.DefaultPath, settings.WorkingDirectory) : settings.Resolve(options.Path);
         CreateFolderOf(path);
         return new RecordStore(StoreOptions.Sqlite, path, new SqliteStore(new SqliteStoreOptions { Path = path, Site = site }, time), time);
     }
