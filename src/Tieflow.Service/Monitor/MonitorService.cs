@@ -27,6 +27,7 @@ internal sealed class MonitorService : BackgroundService
     private const int BatchLimit = 5_000;
     private static readonly TimeSpan FlushTimeout = TimeSpan.FromSeconds(10);
     private static readonly TimeSpan StatusInterval = TimeSpan.FromMilliseconds(250);
+    private static readonly TimeSpan QuietStatusInterval = TimeSpan.FromSeconds(1);
     private static readonly TimeSpan StoreRetryDelay = TimeSpan.FromSeconds(1);
 
     private readonly IOptions<TieflowOptions> _options;
@@ -190,8 +191,36 @@ internal sealed class MonitorService : BackgroundService
     /// <summary>Reads until the sources have all ended (true) or the stop token fires (throws).</summary>
     private async Task<bool> ReadAsync(ChannelReader<(int Source, SourceEvent Event)> reader, CancellationToken stoppingToken)
     {
-        while (await reader.WaitToReadAsync(stoppingToken).ConfigureAwait(false))
+        bool stale = false;
+        while (true)
         {
+            ValueTask<bool> next = reader.WaitToReadAsync(stoppingToken);
+            bool more;
+            if (!next.IsCompleted)
+            {
+                // Nothing more arrives for now: publish what the last batch changed once the status interval is up,
+                // and the store's state (an outbox draining, a forwarder failing) every second while all is quiet.
+                Task<bool> waiting = next.AsTask();
+                using var delay = CancellationTokenSource.CreateLinkedTokenSource(stoppingToken);
+                if (await Task.WhenAny(waiting, Task.Delay(stale ? StatusInterval : QuietStatusInterval, _time, delay.Token)).ConfigureAwait(false) != waiting)
+                {
+                    Publish(force: true);
+                    stale = false;
+                }
+
+                await delay.CancelAsync().ConfigureAwait(false);
+                more = await waiting.ConfigureAwait(false);
+            }
+            else
+            {
+                more = await next.ConfigureAwait(false);
+            }
+
+            if (!more)
+            {
+                return true;
+            }
+
             int n = 0;
             while (n < BatchLimit && reader.TryRead(out var item))
             {
@@ -200,10 +229,8 @@ internal sealed class MonitorService : BackgroundService
             }
 
             await WritePendingAsync(stoppingToken).ConfigureAwait(false);
-            Publish(force: false);
+            stale = !Publish(force: false);
         }
-
-        return true;
     }
 
     private void Handle(int source, SourceEvent e)
@@ -405,12 +432,13 @@ internal sealed class MonitorService : BackgroundService
         }
     }
 
-    private void Publish(bool force)
+    /// <summary>Publishes the status, at most once per <see cref="StatusInterval"/> unless forced; false when it did not.</summary>
+    private bool Publish(bool force)
     {
         long now = _time.GetTimestamp();
         if (!force && _time.GetElapsedTime(_lastStatus, now) < StatusInterval)
         {
-            return;
+            return false;
         }
 
         _lastStatus = now;
@@ -434,6 +462,7 @@ internal sealed class MonitorService : BackgroundService
         }
 
         _status.Publish(new StatusSnapshot(_plant?.Site ?? string.Empty, _phase, analysis?.LastTime, [.. _sourceStates], _recordStore?.State(), units, analysis?.Samples ?? 0, _records, _failure));
+        return true;
     }
 
     private void LogSettings()
