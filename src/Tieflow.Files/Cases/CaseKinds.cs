@@ -15,6 +15,7 @@ public static class CaseKinds
     public const string Reconcile = "reconcile case";
     public const string Plant = "plant";
     public const string Scenario = "scenario";
+    public const string Settings = "settings";
     public const string Unknown = "unknown";
 
     /// <summary>(kind, keys that mark it, command that takes it, or null) in the order they are tried.</summary>
@@ -22,6 +23,7 @@ public static class CaseKinds
     [
         (Plant, ["site", "units"], "tieflow replay --plant FILE (or name it in the settings of tieflow run)"),
         (Scenario, ["plant", "duration"], "tieflow-sim run --scenario FILE"),
+        (Settings, ["Tieflow"], "tieflow run --settings FILE"),
         (System, ["components", "equilibrium"], null),
         (Design, ["find"], "tieflow calc design --case FILE"),
         (Cascade, ["arrangement"], "tieflow calc cascade --case FILE"),

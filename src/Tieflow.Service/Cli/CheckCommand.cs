@@ -2,6 +2,7 @@ using System.CommandLine;
 using System.Text.Json;
 using Tieflow.Files;
 using Tieflow.Service.Output;
+using Tieflow.Service.Settings;
 
 namespace Tieflow.Service.Cli;
 
@@ -27,9 +28,9 @@ internal static class CheckCommand
 
     public static Command Create(CliContext context)
     {
-        var files = new Argument<string[]>("FILE") { Description = "Plant, scenario, system or case files to validate", Arity = ArgumentArity.OneOrMore };
+        var files = new Argument<string[]>("FILE") { Description = "Plant, scenario, settings, system or case files to validate", Arity = ArgumentArity.OneOrMore };
         Option<bool> json = CommonOptions.Json();
-        var command = new Command("check", "Validates plant, scenario, system and case files; exit 0 when all are valid, 2 with every problem listed otherwise.") { files, json };
+        var command = new Command("check", "Validates plant, scenario, settings, system and case files; exit 0 when all are valid, 2 with every problem listed otherwise.") { files, json };
         command.SetAction(parsed => CommandRunner.Run(context, () => Run(context, parsed.GetValue(files)!, parsed.GetValue(json))));
         return command;
     }
@@ -121,9 +122,15 @@ internal static class CheckCommand
             var problems = new InputProblems();
             var root = new JsonValue(doc.RootElement, path, "$", problems);
             kind = CaseKinds.Classify(doc.RootElement);
+            if (kind == CaseKinds.Settings)
+            {
+                // Settings are read through the host's configuration layers and judged by the validators the host runs at start.
+                return [.. SettingsCheck.ProblemsOfFile(path).Select(p => new InputProblem(path, p.KeyPath, p.Message))];
+            }
+
             if (!Readers.TryGetValue(kind, out Func<JsonValue, object?>? read))
             {
-                problems.Add(path, "$", "cannot tell what kind of file this is; expected a plant file (with \"site\" and \"units\"), a scenario file (with \"plant\" and \"duration\"), a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\", or with \"nodes\" for a reconcile case)");
+                problems.Add(path, "$", "cannot tell what kind of file this is; expected a plant file (with \"site\" and \"units\"), a scenario file (with \"plant\" and \"duration\"), a settings file (with a \"Tieflow\" section), a system file (with \"components\" and \"equilibrium\") or a case file (with \"system\" and \"inlets\", \"arrangement\" or \"find\", or with \"nodes\" for a reconcile case)");
             }
             else
             {

@@ -35,6 +35,7 @@ internal static class CliApp
         var root = new RootCommand(
             "Tieflow: advisory monitoring and calculations for liquid-liquid extraction units. " +
             "Read-only towards the plant; not a safety system.");
+        root.Subcommands.Add(RunCommand.Create(context));
         root.Subcommands.Add(CalcCommands.Create(context));
         root.Subcommands.Add(CheckCommand.Create(context));
         root.Subcommands.Add(DescribeCommand.Create(context));

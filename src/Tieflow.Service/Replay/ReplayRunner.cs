@@ -8,17 +8,15 @@ using Tieflow.Files;
 namespace Tieflow.Service.Replay;
 
 /// <summary>
-/// Runs recorded history through the same per-unit analysis as live operation, as fast as it goes. The history streams
+/// Runs recorded history through the same plant analysis as live operation (<see cref="PlantAnalysis"/>), as fast as it goes. The history streams
 /// (memory does not grow with its length); lab results enter at their reported time, never before.
 /// </summary>
 internal sealed class ReplayRunner
 {
-    private readonly Dictionary<string, UnitAnalyzer> _byTag = new(StringComparer.Ordinal);
-    private readonly List<UnitAnalyzer> _analyzers = [];
-
     /// <summary>Default window within which rows out of time order are put back in order.</summary>
     public static readonly TimeSpan DefaultReorderWindow = TimeSpan.FromSeconds(10);
 
+    private readonly PlantAnalysis _analysis;
     private readonly TimeSpan _reorderWindow;
     private readonly Dictionary<string, int> _rank = new(StringComparer.Ordinal);
 
@@ -26,14 +24,12 @@ internal sealed class ReplayRunner
     /// <param name="reorderWindow">Source time within which rows are put back in order (<see cref="DefaultReorderWindow"/> when null).</param>
     public ReplayRunner(PlantDescription plant, TimeSpan? reorderWindow = null)
     {
+        _analysis = new PlantAnalysis(plant);
         _reorderWindow = reorderWindow ?? DefaultReorderWindow;
         foreach (UnitDescription u in plant.Units)
         {
-            var a = new UnitAnalyzer(u);
-            _analyzers.Add(a);
             foreach (Instrument i in u.Instruments)
             {
-                _byTag[i.Tag] = a;
                 _rank.TryAdd(i.Tag, _rank.Count);
             }
         }
@@ -57,14 +53,10 @@ internal sealed class ReplayRunner
         {
             while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= s.Time)
             {
-                LabResult lab = pendingLabs.Dequeue();
-                foreach (UnitAnalyzer a in AnalyzersFor(lab))
-                {
-                    a.AddLab(lab, buffer);
-                }
+                _analysis.AddLab(pendingLabs.Dequeue(), buffer);
             }
 
-            _byTag[s.Tag].Add(s, buffer);
+            _analysis.Add(s, buffer);
             if (buffer.Count > 0)
             {
                 records += buffer.Count;
@@ -111,18 +103,10 @@ internal sealed class ReplayRunner
         {
             while (pendingLabs.Count > 0 && pendingLabs.Peek().Reported <= last)
             {
-                LabResult lab = pendingLabs.Dequeue();
-                foreach (UnitAnalyzer a in AnalyzersFor(lab))
-                {
-                    a.AddLab(lab, buffer);
-                }
+                _analysis.AddLab(pendingLabs.Dequeue(), buffer);
             }
 
-            foreach (UnitAnalyzer a in _analyzers)
-            {
-                a.Advance(last, buffer);
-            }
-
+            _analysis.Advance(last, buffer);
             records += buffer.Count;
             if (buffer.Count > 0)
             {
@@ -131,7 +115,7 @@ internal sealed class ReplayRunner
         }
 
         progress?.Invoke(rows);
-        return new ReplayResult([.. _analyzers.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], unknown, rows, records)
+        return new ReplayResult([.. _analysis.Units.Select(a => (a.Model.Unit, a.Summary(), (EvaluationResult?)null))], unknown, rows, records)
         {
             Duplicates = reorder.Duplicates,
             Conflicts = reorder.Conflicts,
@@ -151,18 +135,5 @@ internal sealed class ReplayRunner
         }
 
         return result with { Units = units };
-    }
-
-    private IEnumerable<UnitAnalyzer> AnalyzersFor(LabResult lab)
-    {
-        int slash = lab.Stream.IndexOf('/', StringComparison.Ordinal);
-        if (slash > 0)
-        {
-            string unit = lab.Stream[..slash];
-            return _analyzers.Where(a => a.Model.Unit.Id == unit);
-        }
-
-        // Without a unit prefix a lab result belongs to the unit whose system has the component.
-        return _analyzers.Where(a => a.Model.ComponentIds.Contains(lab.Component));
     }
 }

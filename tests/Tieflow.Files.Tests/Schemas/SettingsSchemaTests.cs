@@ -1,8 +1,8 @@
 namespace Tieflow.Files.Tests.Schemas;
 
 /// <summary>
-/// The settings schema: strict inside the <c>Tieflow</c> section, open outside it. The settings reader does not exist yet,
-/// so only the schema is checked here.
+/// The settings schema: strict inside the <c>Tieflow</c> section, open outside it. The settings validators live in the
+/// service (tests/Tieflow.Service.Tests/Hosting/SettingsValidationTests.cs); here only the schema is checked.
 /// </summary>
 public sealed class SettingsSchemaTests
 {
@@ -15,6 +15,7 @@ public sealed class SettingsSchemaTests
             "Store": { "Kind": "influxdb", "Url": "http://influx:8086", "Org": "site", "Bucket": "tieflow", "OutboxPath": "outbox.db", "OutboxMaxBytes": 104857600, "WriteSignals": true } } }
         """)]
     [InlineData("""{ "Tieflow": { "Source": { "Kind": "simulator", "Scenario": "clean.scenario.json", "Speed": 60 }, "Store": { "Kind": "sqlite", "Path": "tieflow-data/tieflow.db" } } }""")]
+    [InlineData("""{ "Tieflow": { "Units": ["X300"], "Health": { "Enabled": false, "Port": 0 } } }""")]
     [InlineData("""{ "Tieflow": { "Source": { "Security": "None" } }, "Logging": { "LogLevel": { "Default": "Information", "Microsoft.Hosting": "Warning" }, "Console": { "FormatterName": "simple" } }, "AllowedHosts": "*", "Anything": { "else": [1, 2] } }""")]
     public void Accepted(string json)
     {
@@ -35,6 +36,11 @@ public sealed class SettingsSchemaTests
     [InlineData("""{ "Tieflow": { "Store": { "WriteSignals": "yes" } } }""")]
     [InlineData("""{ "Tieflow": { "Store": { "Token": "abc" } } }""")]
     [InlineData("""{ "Tieflow": "plant.json" }""")]
+    [InlineData("""{ "Tieflow": { "Units": "X300" } }""")]
+    [InlineData("""{ "Tieflow": { "Units": ["X300", "X300"] } }""")]
+    [InlineData("""{ "Tieflow": { "Health": { "Port": 70000 } } }""")]
+    [InlineData("""{ "Tieflow": { "Health": { "Address": "0.0.0.0" } } }""")]
+    [InlineData("""{ "Tieflow": { "Store": { "OutboxMaxBytes": 1000 } } }""")]
     [InlineData("""{ "Logging": { "LogLevel": { "Default": "Verbose" } } }""")]
     public void Refused(string json)
     {
