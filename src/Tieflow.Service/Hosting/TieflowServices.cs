@@ -44,6 +44,8 @@ internal static class TieflowServices
     public static IServiceCollection AddTieflowSource(this IServiceCollection services)
     {
         services.AddSingleton<ISignalSourceFactory, SimulatorSourceFactory>();
+        services.AddSingleton<ISignalSourceFactory, OpcUaSourceFactory>();
+        services.AddSingleton<ISignalSourceFactory, LabFolderSourceFactory>();
         services.AddSingleton<SignalSources>();
         return services;
     }

@@ -7,6 +7,10 @@ internal sealed class LabsOptionsValidator(SettingsContext context) : SettingsVa
     {
         var problems = new List<SettingsProblem>();
         NotBlank(problems, $"{LabsOptions.Section}:Folder", options.Folder);
+        if (!string.IsNullOrWhiteSpace(options.Folder))
+        {
+            Sources.LabFolderSourceFactory.ToSourceOptions(options, null, problems);
+        }
         return problems;
     }
 }

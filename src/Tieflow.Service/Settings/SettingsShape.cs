@@ -34,8 +34,20 @@ internal static class SettingsShape
             ["Pki"] = ValueType.Text,
             ["Scenario"] = ValueType.Text,
             ["Speed"] = ValueType.Number,
+            ["SamplingInterval"] = ValueType.Text,
+            ["PublishingInterval"] = ValueType.Text,
+            ["KeepAliveInterval"] = ValueType.Text,
+            ["ConnectRetryDelay"] = ValueType.Text,
+            ["ConnectRetryMaxDelay"] = ValueType.Text,
+            ["ConnectAttempts"] = ValueType.Integer,
+            ["RequireAllNodes"] = ValueType.Boolean,
         },
-        ["Labs"] = new Dictionary<string, object>(StringComparer.OrdinalIgnoreCase) { ["Folder"] = ValueType.Text },
+        ["Labs"] = new Dictionary<string, object>(StringComparer.OrdinalIgnoreCase)
+        {
+            ["Folder"] = ValueType.Text,
+            ["PollInterval"] = ValueType.Text,
+            ["SettleTime"] = ValueType.Text,
+        },
         ["Store"] = new Dictionary<string, object>(StringComparer.OrdinalIgnoreCase)
         {
             ["Kind"] = ValueType.Text,

@@ -32,4 +32,25 @@ internal sealed class SourceOptions
 
     /// <summary><c>Speed</c>: how many times faster than real time the simulated plant runs (simulator), above 0; default 1.</summary>
     public double? Speed { get; set; }
+
+    /// <summary>OPC UA: how often the server samples each node (duration text; default 1 s).</summary>
+    public string? SamplingInterval { get; set; }
+
+    /// <summary>OPC UA: how often the server sends what changed (duration text; default 1 s).</summary>
+    public string? PublishingInterval { get; set; }
+
+    /// <summary>OPC UA: the longest silence the server may keep when nothing changes (duration text; default 5 s).</summary>
+    public string? KeepAliveInterval { get; set; }
+
+    /// <summary>OPC UA: first wait between attempts of the first connection, doubled after each failure (duration text; default 1 s).</summary>
+    public string? ConnectRetryDelay { get; set; }
+
+    /// <summary>OPC UA: the longest of those waits (duration text; default 30 s).</summary>
+    public string? ConnectRetryMaxDelay { get; set; }
+
+    /// <summary>OPC UA: attempts of the first connection before giving up with exit 3 (0 or absent: keep trying).</summary>
+    public int? ConnectAttempts { get; set; }
+
+    /// <summary>OPC UA: refuse to start when any instrument's node is missing on the server (default false: start degraded).</summary>
+    public bool? RequireAllNodes { get; set; }
 }

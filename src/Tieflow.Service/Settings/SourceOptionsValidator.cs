@@ -33,6 +33,7 @@ internal sealed partial class SourceOptionsValidator(SettingsContext context) : 
                 }
 
                 NotBlank(problems, $"{p}:Pki", options.Pki);
+                Sources.OpcUaSourceFactory.ToSourceOptions(options, null, problems);
                 if (Context.CheckEnvironment && !string.IsNullOrWhiteSpace(options.User) && Context.Secret(PasswordVariable) is null)
                 {
                     problems.Add(new SettingsProblem($"{p}:User", $"a user is named, but the environment variable {PasswordVariable} that holds the password is not set"));
