@@ -90,6 +90,13 @@ internal sealed class TieflowProcess : IDisposable
         kill.WaitForExit();
     }
 
+    /// <summary>Kills the process with SIGKILL, as a power cut or the out-of-memory killer would, and waits for it to end.</summary>
+    public void KillHard()
+    {
+        _process.Kill();
+        _process.WaitForExit();
+    }
+
     /// <summary>The exit code, once the process has ended (killed after <paramref name="patience"/>: then -1).</summary>
     public int WaitForExit(TimeSpan patience)
     {
