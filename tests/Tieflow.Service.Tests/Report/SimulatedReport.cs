@@ -16,10 +16,10 @@ internal sealed class SimulatedReport : IDisposable
     {
         string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json").Replace("\\", "/", StringComparison.Ordinal);
         string scenario = _folder.Write("report.scenario.json", $$"""
-            { "plant": "{{plant}}", "start": "2026-03-02T00:00:00Z", "duration": "12:00:00", "step": "00:00:02", "seed": 5,
+            { "plant": "{{plant}}", "start": "2026-03-02T00:00:00Z", "duration": "20:00:00", "step": "00:00:02", "seed": 5,
               "faults": [
-                { "kind": "stage-efficiency", "unit": "X300", "stage": 3, "start": "02:30:00", "ramp": "00:30:00", "value": 0.55 },
-                { "kind": "sensor-stuck", "unit": "X300", "tag": "FI-302", "start": "06:00:00" } ],
+                { "kind": "stage-efficiency", "unit": "X300", "stage": 3, "start": "04:00:00", "ramp": "00:30:00", "value": 0.55 },
+                { "kind": "sensor-stuck", "unit": "X300", "tag": "FI-302", "start": "08:00:00" } ],
               "lab": { "interval": "01:30:00", "delay": "00:45:00", "sigma": 0.0005 } }
             """);
         (string history, string labs, string truth) = SimulatedHistory.Write(ScenarioReader.Load(scenario), _folder.Path);
