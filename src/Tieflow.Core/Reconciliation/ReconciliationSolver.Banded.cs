@@ -210,14 +210,7 @@ internal sealed partial class ReconciliationSolver
             return false;
         }
 
-        double flowScale = 0;
-        for (int s = 0; s < _network.Streams.Count; s++)
-        {
-            flowScale = Math.Max(flowScale, Math.Abs(_z[s * _stride]));
-        }
-
-        flowScale = Math.Max(flowScale, _startFlowScale);
-        flowScale = flowScale > 0 ? flowScale : 1;
+        double flowScale = StepFlowScale();
         double largest = 0;
         for (int k = 0; k < _nx; k++)
         {

@@ -468,16 +468,7 @@ internal sealed partial class ReconciliationSolver
         ForwardSolve(mu);
         BackSolve(mu);
 
-        double flowScale = 0;
-        for (int s = 0; s < _network.Streams.Count; s++)
-        {
-            flowScale = Math.Max(flowScale, Math.Abs(_z[s * _stride]));
-        }
-
-        // Flows are judged against the larger of the current and the starting flow scale: a network whose flows are
-        // free in scale (no flow measured) may drift towards zero flows, where a scale of the moment never settles.
-        flowScale = Math.Max(flowScale, _startFlowScale);
-        flowScale = flowScale > 0 ? flowScale : 1;
+        double flowScale = StepFlowScale();
         double step = 0;
         for (int k = 0; k < _nx; k++)
         {
@@ -610,4 +601,21 @@ internal sealed partial class ReconciliationSolver
     }
 
     private double ScaleOf(int variable, double flowScale) => variable % _stride == 0 ? flowScale : 1.0;
+
+    /// <summary>
+    /// The flow scale a step is judged against: the larger of the current and the starting flow scale, since a network
+    /// whose flows are free in scale (no flow measured) may drift towards zero flows, where a scale of the moment never
+    /// settles.
+    /// </summary>
+    private double StepFlowScale()
+    {
+        double flowScale = 0;
+        for (int s = 0; s < _network.Streams.Count; s++)
+        {
+            flowScale = Math.Max(flowScale, Math.Abs(_z[s * _stride]));
+        }
+
+        flowScale = Math.Max(flowScale, _startFlowScale);
+        return flowScale > 0 ? flowScale : 1;
+    }
 }
