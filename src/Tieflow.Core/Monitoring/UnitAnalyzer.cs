@@ -6,6 +6,7 @@ using Tieflow.Core.Monitoring.Efficiency;
 using Tieflow.Core.Monitoring.Envelope;
 using Tieflow.Core.Monitoring.Records;
 using Tieflow.Core.Monitoring.Signals;
+using Tieflow.Core.Numerics;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Reconciliation;
 
@@ -739,7 +740,7 @@ public sealed class UnitAnalyzer
 
         try
         {
-            // The final raffinate falls as the shared efficiency rises: bisect on it.
+            // The final raffinate falls as the shared efficiency rises: Brent's method on the bracket [0.02, 1].
             double lo = 0.02, hi = 1.0;
             double fLo = Raffinate(lo) - raffinateSolute, fHi = Raffinate(hi) - raffinateSolute;
             double e;
@@ -751,22 +752,9 @@ public sealed class UnitAnalyzer
             {
                 e = lo;
             }
-            else
+            else if (!BracketedRoot.TryFind((x, target) => Raffinate(x) - target, raffinateSolute, lo, hi, fLo, fHi, 1e-9, 100, out e, out _))
             {
-                for (int i = 0; i < 40; i++)
-                {
-                    double mid = 0.5 * (lo + hi);
-                    if (Raffinate(mid) - raffinateSolute > 0)
-                    {
-                        lo = mid;
-                    }
-                    else
-                    {
-                        hi = mid;
-                    }
-                }
-
-                e = 0.5 * (lo + hi);
+                return;
             }
 
             double h = 0.01;
