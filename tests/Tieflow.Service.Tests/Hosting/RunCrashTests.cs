@@ -1,4 +1,3 @@
-using System.Diagnostics;
 using System.Text.RegularExpressions;
 using Tieflow.Storage.Sqlite;
 
@@ -45,22 +44,9 @@ public sealed partial class RunCrashTests : IDisposable
         Assert.True(show.ExitCode == 0, show.Error);
     }
 
-    private static bool WaitForWindows(TieflowProcess run, int windows, TimeSpan patience)
-    {
-        var clock = Stopwatch.StartNew();
-        while (clock.Elapsed < patience)
-        {
-            MatchCollection seen = WindowCount().Matches(run.Output);
-            if (seen.Count > 0 && int.Parse(seen[^1].Groups[1].Value, System.Globalization.CultureInfo.InvariantCulture) >= windows)
-            {
-                return true;
-            }
-
-            Thread.Sleep(20);
-        }
-
-        return false;
-    }
+    private static bool WaitForWindows(TieflowProcess run, int windows, TimeSpan patience) => run.WaitUntil(
+        () => WindowCount().Matches(run.Output) is { Count: > 0 } seen && int.Parse(seen[^1].Groups[1].Value, System.Globalization.CultureInfo.InvariantCulture) >= windows,
+        patience);
 
     [GeneratedRegex(@"X300: (\d+) windows")]
     private static partial Regex WindowCount();

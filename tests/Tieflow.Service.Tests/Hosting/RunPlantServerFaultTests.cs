@@ -40,13 +40,13 @@ public sealed class RunPlantServerFaultTests : IDisposable
         for (int freeze = 1; freeze <= 2; freeze++)
         {
             // Connected (the first time, or again after the last gap), and a few plant hours of windows.
-            Assert.True(WaitFor(() => Count(run.Error, "connected at") >= freeze, Patience), $"freeze {freeze}: not connected: {run.Error}");
+            Assert.True(run.WaitUntil(() => Count(run.Error, "connected at") >= freeze, Patience), $"freeze {freeze}: not connected: {run.Error}");
             await Task.Delay(TimeSpan.FromSeconds(6));
             sim.Freeze();
-            bool lost = WaitFor(() => Count(run.Error, "Alert raised on X300: source-gap") >= freeze, Patience);
+            bool lost = run.WaitUntil(() => Count(run.Error, "Alert raised on X300: source-gap") >= freeze, Patience);
             sim.Thaw();
             Assert.True(lost, $"freeze {freeze}: the gap was not raised: {run.Error}");
-            Assert.True(WaitFor(() => Count(run.Error, "Alert cleared on X300: source-gap") >= freeze, Patience), $"freeze {freeze}: the gap did not clear: {run.Error}");
+            Assert.True(run.WaitUntil(() => Count(run.Error, "Alert cleared on X300: source-gap") >= freeze, Patience), $"freeze {freeze}: the gap did not clear: {run.Error}");
         }
 
         // Windows close after the second gap too.
@@ -72,21 +72,5 @@ public sealed class RunPlantServerFaultTests : IDisposable
         }
 
         return n;
-    }
-
-    private static bool WaitFor(Func<bool> condition, TimeSpan patience)
-    {
-        var clock = System.Diagnostics.Stopwatch.StartNew();
-        while (clock.Elapsed < patience)
-        {
-            if (condition())
-            {
-                return true;
-            }
-
-            Thread.Sleep(50);
-        }
-
-        return condition();
     }
 }

@@ -62,19 +62,22 @@ internal sealed class TieflowProcess : IDisposable
     }
 
     /// <summary>Waits until standard error holds <paramref name="text"/>; false when the process ends or <paramref name="patience"/> passes first.</summary>
-    public bool WaitForError(string text, TimeSpan patience)
+    public bool WaitForError(string text, TimeSpan patience) => WaitUntil(() => Error.Contains(text, StringComparison.Ordinal), patience);
+
+    /// <summary>Waits until <paramref name="condition"/> holds; false when the process ends or <paramref name="patience"/> passes first.</summary>
+    public bool WaitUntil(Func<bool> condition, TimeSpan patience)
     {
         var clock = Stopwatch.StartNew();
         while (clock.Elapsed < patience)
         {
-            if (Error.Contains(text, StringComparison.Ordinal))
+            if (condition())
             {
                 return true;
             }
 
             if (_process.HasExited)
             {
-                return Error.Contains(text, StringComparison.Ordinal);
+                return condition();
             }
 
             Thread.Sleep(50);
