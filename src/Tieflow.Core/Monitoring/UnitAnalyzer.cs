@@ -29,6 +29,9 @@ public sealed class UnitAnalyzer
     // Window means in the line that gives each stage's raffinate trend (two hours of 30-minute windows).
     private const int TrendPoints = 4;
 
+    // Window means in the line whose slope gives the hold-ups' accumulation: longer than the gate's, for a quieter slope.
+    private const int AccumulationTrendPoints = 8;
+
     // A trend larger than this many of its sigmas means the hold-ups still accumulate.
     private const double TrendSigmas = 3;
     private readonly UnitModel _model;
@@ -44,6 +47,7 @@ public sealed class UnitAnalyzer
     private readonly AlertBook _alerts;
     private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
     private readonly RaffinateTrend _trend;
+    private readonly RaffinateTrend _accumulationTrend;
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -118,6 +122,7 @@ public sealed class UnitAnalyzer
         _sumEfficiency = new double[n];
         _countEfficiency = new int[n];
         _trend = new RaffinateTrend(n, TrendPoints);
+        _accumulationTrend = new RaffinateTrend(n, AccumulationTrendPoints);
         foreach (string tag in KeyTags())
         {
             _steadyFilters[tag] = new CaoRhinehartFilter();
@@ -383,7 +388,7 @@ public sealed class UnitAnalyzer
 
         double temperature = StageTemperatures(tags, problemTags, out double?[] stageTemperatures);
         double centreHours = ((start - DateTimeOffset.UnixEpoch).TotalHours + (end - DateTimeOffset.UnixEpoch).TotalHours) / 2;
-        (double Slope, double Sigma)?[] slopes = RaffinateSlopes(byTag, centreHours);
+        (double Slope, double Sigma)?[] slopes = RaffinateSlopes(byTag, centreHours, out (double Slope, double Sigma)?[] accumulationSlopes);
 
         // The gate: steady flows and key compositions (Cao-Rhinehart), and settled analyzers (no step from the previous
         // window, no significant trend in any stage's raffinate over the last two hours).
@@ -420,7 +425,7 @@ public sealed class UnitAnalyzer
         WindowReconciliation? rec = null;
         try
         {
-            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained) : null;
+            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes) : null;
         }
         catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
         {
@@ -487,7 +492,7 @@ public sealed class UnitAnalyzer
             output.Add(new StageRecord(_unit.Id, end, k + 1, steady ? efficiencies[k] : null, entrainmentByStage[k], stageTemperatures[k]));
         }
 
-        (double dissolved, double unaccounted, double unaccountedSigma) = SolventAccounting(final, byTag);
+        (double dissolved, double unaccounted, double unaccountedSigma) = SolventAccounting(final, byTag, rec.TotalAccumulation(_model.ComponentIds[2]));
         if (steady)
         {
             UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
@@ -553,12 +558,6 @@ public sealed class UnitAnalyzer
     }
 
     /// <summary>
-    /// The second half of the steady-state gate: the hold-ups of a mixer-settler train settle over hours, slower than the
-    /// Cao-Rhinehart filter on the key signals can see within one window, so every analyzer's window mean must also agree
-    /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
-    /// accumulate solute is biased.
-    /// </summary>
-    /// <summary>
     /// True when the gross-error tests removed an analyzer of one of the stage's own streams (the raffinate entering and
     /// leaving it, the extract leaving it): its efficiency would come from values the balances had to infer, and the
     /// window says nothing reliable about that stage.
@@ -579,10 +578,12 @@ public sealed class UnitAnalyzer
     }
 
     /// <summary>Per stage, the trend of the raffinate leaving it (null where its analyzer has no full history).</summary>
-    private (double Slope, double Sigma)?[] RaffinateSlopes(Dictionary<string, WindowMeasurement> byTag, double centreHours)
+    private (double Slope, double Sigma)?[] RaffinateSlopes(Dictionary<string, WindowMeasurement> byTag, double centreHours, out (double Slope, double Sigma)?[] accumulationSlopes)
     {
         var slopes = new (double Slope, double Sigma)?[_unit.Stages];
+        accumulationSlopes = new (double Slope, double Sigma)?[_unit.Stages];
         double span = (TrendPoints - 1 + 0.01) * _settings.WindowLength.TotalHours;
+        double longSpan = (AccumulationTrendPoints - 1 + 0.01) * _settings.WindowLength.TotalHours;
         for (int k = 1; k <= _unit.Stages; k++)
         {
             QuantityKey key = QuantityKey.FractionOf(_model.StreamId(UnitStream.RaffinateOf(k)), _soluteId);
@@ -590,16 +591,25 @@ public sealed class UnitAnalyzer
             if (m is null)
             {
                 _trend.Forget(k);
+                _accumulationTrend.Forget(k);
                 continue;
             }
 
             _trend.Add(k, centreHours, m.Value, m.Sigma);
             slopes[k - 1] = _trend.Slope(k, centreHours, span);
+            _accumulationTrend.Add(k, centreHours, m.Value, m.Sigma);
+            accumulationSlopes[k - 1] = _accumulationTrend.Slope(k, centreHours, longSpan);
         }
 
         return slopes;
     }
 
+    /// <summary>
+    /// The second half of the steady-state gate: the hold-ups of a mixer-settler train settle over hours, slower than the
+    /// Cao-Rhinehart filter on the key signals can see within one window, so every analyzer's window mean must also agree
+    /// with its previous window's mean within 3 sigma of their difference. An efficiency computed while the stages still
+    /// accumulate solute is biased.
+    /// </summary>
     private bool AnalyzersSettled(List<WindowMeasurement> measurements)
     {
         bool settled = true;
@@ -857,14 +867,15 @@ public sealed class UnitAnalyzer
         }
     }
 
-    private (double Dissolved, double Unaccounted, double Sigma) SolventAccounting(ReconciliationResult final, Dictionary<string, WindowMeasurement> byTag)
+    private (double Dissolved, double Unaccounted, double Sigma) SolventAccounting(ReconciliationResult final, Dictionary<string, WindowMeasurement> byTag, double holdupGain)
     {
         string solventId = _model.ComponentIds[2];
         QuantityEstimate rf = final.Flow("raffinate"), rs = final.Fraction("raffinate", solventId);
         double dissolved = rf.HasValue && rs.HasValue ? Math.Max(0, rf.Value * rs.Value) : double.NaN;
 
         // The unaccounted solvent comes from the measured flows (the reconciliation closes every balance by
-        // construction): solvent in by the solvent meter, out in the extract and the raffinate.
+        // construction): solvent in by the solvent meter, out in the extract and the raffinate, less what the stages'
+        // hold-ups take up while the unit settles.
         double In(string stream, out double sigma)
         {
             sigma = double.NaN;
@@ -887,7 +898,7 @@ public sealed class UnitAnalyzer
             return (dissolved, double.NaN, double.NaN);
         }
 
-        double unaccounted = (solventFlow * fs.Value) - (extractFlow * es.Value) - (raffinateFlow * rs.Value);
+        double unaccounted = (solventFlow * fs.Value) - (extractFlow * es.Value) - (raffinateFlow * rs.Value) - holdupGain;
         double sigma = Math.Sqrt(Math.Pow(sSolvent * fs.Value, 2) + Math.Pow(sExtract * es.Value, 2) + Math.Pow(sRaffinate * rs.Value, 2));
         return (dissolved, unaccounted, sigma);
     }

@@ -41,8 +41,11 @@ public sealed class WindowReconciler
     /// <param name="measurements">The window's averages (failed tags already left out).</param>
     /// <param name="temperatureKelvin">The unit's temperature in the window.</param>
     /// <param name="entrainedStreams">Stream ids whose measured composition says they carry the other phase: no envelope condition on them.</param>
+    /// <param name="raffinateSlopes">Per stage (index stage - 1) the trend dx/dt of the raffinate leaving it with its sigma,
+    /// fraction per hour, or null: the stages' hold-ups then enter the balances with their accumulation
+    /// (<see cref="HoldupAccumulation"/>), and the slope's sigma widens the efficiencies' sigma.</param>
     /// <exception cref="ReconciliationException">When the reconciliation does not converge.</exception>
-    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null)
+    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null, IReadOnlyList<(double Slope, double Sigma)?>? raffinateSlopes = null)
     {
         ArgumentNullException.ThrowIfNull(measurements);
         UnitDescription unit = _model.Unit;
@@ -84,6 +87,29 @@ public sealed class WindowReconciler
         AddKnown(fixedMeasurements, byKey, "solvent", unit.Nominal.Solvent.Composition, [ComponentRole.Solute, ComponentRole.Diluent]);
         AddKnown(fixedMeasurements, byKey, "feed", unit.Nominal.Feed.Composition, [ComponentRole.Solvent]);
 
+        IReadOnlyList<NodeAccumulation>? accumulation = null;
+
+        // Per stage the sigma of its solute accumulation (linear in the slope, so the slope's relative sigma).
+        var accumulationSigma = new double[unit.Stages];
+        if (raffinateSlopes is not null)
+        {
+            var raffinateSolute = new double?[unit.Stages];
+            for (int k = 1; k <= unit.Stages; k++)
+            {
+                raffinateSolute[k - 1] = byKey.TryGetValue(QuantityKey.FractionOf(_model.StreamId(UnitStream.RaffinateOf(k)), solute), out WindowMeasurement? m) ? m.Value : null;
+            }
+
+            accumulation = HoldupAccumulation.Estimate(_model, _nominal, temperatureKelvin, raffinateSolute, [.. raffinateSlopes.Select(t => t?.Slope)]);
+            foreach (NodeAccumulation a in accumulation)
+            {
+                int k = int.Parse(a.Node.AsSpan("stage-".Length), System.Globalization.CultureInfo.InvariantCulture);
+                if (a.Component == solute && raffinateSlopes[k - 1] is (double slope, double sigma) && slope != 0)
+                {
+                    accumulationSigma[k - 1] = Math.Abs(a.Rate * sigma / slope);
+                }
+            }
+        }
+
         ReconciliationReport? report = null;
         int iteration = 0;
         var all = new List<Measurement>(fixedMeasurements.Count + saturated.Count);
@@ -106,7 +132,7 @@ public sealed class WindowReconciler
                 }
             }
 
-            report = DataReconciler.Reconcile(_model.Network, all, new ReconciliationOptions { Significance = _settings.Significance });
+            report = DataReconciler.Reconcile(_model.Network, all, new ReconciliationOptions { Significance = _settings.Significance }, accumulation);
             double moved = 0;
             foreach ((string id, _) in saturated)
             {
@@ -128,7 +154,7 @@ public sealed class WindowReconciler
         var efficiencies = new List<StageEfficiency>(unit.Stages);
         for (int k = 1; k <= unit.Stages; k++)
         {
-            efficiencies.Add(EstimateStage(report!.Final, k, temperatureKelvin, solute));
+            efficiencies.Add(EstimateStage(report!.Final, k, temperatureKelvin, solute, accumulationSigma));
         }
 
         var suspectTags = new List<string>();
@@ -140,7 +166,7 @@ public sealed class WindowReconciler
             }
         }
 
-        return new WindowReconciliation(report, efficiencies, suspectTags, iteration, [.. saturated.Select(s => s.Id)]);
+        return new WindowReconciliation(report, efficiencies, suspectTags, iteration, [.. saturated.Select(s => s.Id)], accumulation ?? []);
     }
 
     /// <summary>The raffinate-branch point with solute fraction x.</summary>
@@ -159,7 +185,7 @@ public sealed class WindowReconciler
         return model.TieLineFromExtract(Math.Clamp(y, 0, max), temperatureKelvin).Extract;
     }
 
-    private StageEfficiency EstimateStage(ReconciliationResult r, int stage, double temperatureKelvin, string solute)
+    private StageEfficiency EstimateStage(ReconciliationResult r, int stage, double temperatureKelvin, string solute, double[] accumulationSigma)
     {
         string inlet = stage == 1 ? "feed" : _model.StreamId(UnitStream.RaffinateOf(stage - 1));
         QuantityEstimate xIn = r.Fraction(inlet, solute);
@@ -172,7 +198,18 @@ public sealed class WindowReconciler
 
         // The engine gives each estimate's sigma, not the covariance between estimates: the delta method here takes them
         // as independent, which overstates the sigma where a balance ties x_in, x_out and y together.
-        Span<double> cov = [xIn.Sigma * xIn.Sigma, 0, 0, 0, xOut.Sigma * xOut.Sigma, 0, 0, 0, yOut.Sigma * yOut.Sigma];
+        // The accumulation is held as known in the balances; its uncertainty reaches the leaving extract through the
+        // balance of the stages whose extract it collects (this one and those after it, counter-current): delta method.
+        double accumulationVariance = 0;
+        int last = _model.Unit.Arrangement == CascadeArrangement.Countercurrent ? _model.Unit.Stages : stage;
+        for (int j = stage; j <= last; j++)
+        {
+            accumulationVariance += accumulationSigma[j - 1] * accumulationSigma[j - 1];
+        }
+
+        QuantityEstimate extractFlow = r.Flow(_model.StreamId(UnitStream.ExtractOf(stage)));
+        double yVariance = (yOut.Sigma * yOut.Sigma) + (extractFlow.HasValue && extractFlow.Value > 0 ? accumulationVariance / (extractFlow.Value * extractFlow.Value) : 0);
+        Span<double> cov = [xIn.Sigma * xIn.Sigma, 0, 0, 0, xOut.Sigma * xOut.Sigma, 0, 0, 0, yVariance];
         return StageEfficiencyEstimator.Estimate(_model.Unit.Equilibrium, temperatureKelvin, stage, xIn.Value, xOut.Value, yOut.Value, cov, _settings.NotDeterminableSigma);
     }
 

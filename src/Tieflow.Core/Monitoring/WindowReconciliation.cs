@@ -9,9 +9,16 @@ namespace Tieflow.Core.Monitoring;
 /// <param name="SuspectTags">Tags of the measurements the serial elimination removed, in order.</param>
 /// <param name="EnvelopeIterations">Outer iterations that moved the phase-envelope conditions to the estimates.</param>
 /// <param name="SaturatedStreams">Streams on which the phase envelope was imposed.</param>
+/// <param name="Accumulation">The stages' accumulation held in the balances (empty at steady state).</param>
 public sealed record WindowReconciliation(
     ReconciliationReport Report,
     IReadOnlyList<StageEfficiency> Efficiencies,
     IReadOnlyList<string> SuspectTags,
     int EnvelopeIterations,
-    IReadOnlyList<string> SaturatedStreams);
+    IReadOnlyList<string> SaturatedStreams,
+    IReadOnlyList<NodeAccumulation> Accumulation)
+{
+    /// <summary>The whole unit's rate of gain of one component, in the flow unit (zero at steady state).</summary>
+    /// <param name="component">Component id.</param>
+    public double TotalAccumulation(string component) => Accumulation.Where(a => a.Component == component).Sum(a => a.Rate);
+}

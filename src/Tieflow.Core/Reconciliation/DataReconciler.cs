@@ -8,13 +8,24 @@ public static class DataReconciler
     /// normalised adjustment and reconciles again, until the test passes or nothing redundant is left.
     /// </summary>
     /// <param name="network">The network.</param>
-    /// <param name="measurements">The measurements (see <see cref="ReconciliationProblem.Create"/> for the rules).</param>
+    /// <param name="measurements">The measurements (see <see cref="ReconciliationProblem.Create(ProcessNetwork, IReadOnlyList{Measurement}, ReconciliationOptions?)"/> for the rules).</param>
     /// <param name="options">Settings; the defaults when <see langword="null"/>.</param>
     /// <exception cref="ArgumentException">A measurement is invalid; the message names it.</exception>
     /// <exception cref="ReconciliationException">The bilinear iteration did not converge.</exception>
     public static ReconciliationReport Reconcile(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options = null)
+        => Reconcile(network, measurements, options, null);
+
+    /// <summary>As <see cref="Reconcile(ProcessNetwork, IReadOnlyList{Measurement}, ReconciliationOptions?)"/>, for a unit
+    /// whose hold-ups gain or lose inventory at known rates (<see cref="NodeAccumulation"/>).</summary>
+    /// <param name="network">The network.</param>
+    /// <param name="measurements">The measurements.</param>
+    /// <param name="options">Settings; the defaults when <see langword="null"/>.</param>
+    /// <param name="accumulation">Known rates of accumulation; <see langword="null"/> for steady state.</param>
+    /// <exception cref="ArgumentException">A measurement or an accumulation is invalid; the message names it.</exception>
+    /// <exception cref="ReconciliationException">The bilinear iteration did not converge.</exception>
+    public static ReconciliationReport Reconcile(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options, IReadOnlyList<NodeAccumulation>? accumulation)
     {
-        ReconciliationResult initial = ReconciliationProblem.Create(network, measurements, options).Reconcile();
+        ReconciliationResult initial = ReconciliationProblem.Create(network, measurements, options, accumulation).Reconcile();
         var suspects = new List<QuantityKey>();
         var remaining = new List<Measurement>(measurements);
         ReconciliationResult current = initial;
@@ -31,7 +42,7 @@ public static class DataReconciler
 
             suspects.Add(worst.Key);
             remaining.RemoveAll(m => m.Key == worst.Key);
-            current = ReconciliationProblem.Create(network, remaining, options).Reconcile();
+            current = ReconciliationProblem.Create(network, remaining, options, accumulation).Reconcile();
         }
 
         return new ReconciliationReport(initial, current, suspects);

@@ -66,9 +66,13 @@ public sealed class ReconciliationProblem
     private List<int>? _plainHeld;
     private readonly MeasurementRole[] _plainRoles;
 
-    private ReconciliationProblem(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions options)
+    // Known accumulation per balance row (node x component), or null for steady state.
+    private readonly double[]? _accumulation;
+
+    private ReconciliationProblem(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions options, double[]? accumulation)
     {
         _network = network;
+        _accumulation = accumulation;
         _options = options;
         _n = network.QuantityCount;
         int nx = measurements.Count;
@@ -137,8 +141,23 @@ public sealed class ReconciliationProblem
     /// <param name="options">Settings; <see cref="ReconciliationOptions.Default"/> when <see langword="null"/>.</param>
     /// <exception cref="ArgumentException">A measurement names an unknown stream or component, repeats a quantity,
     /// measures a fraction of a flow-only network, has a sigma that is not above zero, a value that is not finite,
-    /// or a fraction outside [0, 1]. The message names the measurement.</exception>
+    /// or a fraction outside [0, 1], or an accumulation names an unknown node or component or is not finite. The message
+    /// names the measurement or the accumulation.</exception>
     public static ReconciliationProblem Create(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options = null)
+        => Create(network, measurements, options, null);
+
+    /// <summary>
+    /// Prepares a reconciliation of a unit that is not at steady state: each node's balance holds the known rate at
+    /// which its hold-up gains each component (inflow - outflow = accumulation). With no flow measured the flows are
+    /// only known up to a scale, and the accumulation is then not applied.
+    /// </summary>
+    /// <param name="network">The network.</param>
+    /// <param name="measurements">As for <see cref="Create(ProcessNetwork, IReadOnlyList{Measurement}, ReconciliationOptions?)"/>.</param>
+    /// <param name="options">Settings; <see cref="ReconciliationOptions.Default"/> when <see langword="null"/>.</param>
+    /// <param name="accumulation">At most one rate per node and component; <see langword="null"/> or empty for steady state.</param>
+    /// <exception cref="ArgumentException">A measurement is invalid, or an accumulation names an unknown node or component,
+    /// repeats one, or is not finite. The message names it.</exception>
+    public static ReconciliationProblem Create(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options, IReadOnlyList<NodeAccumulation>? accumulation)
     {
         ArgumentNullException.ThrowIfNull(network);
         ArgumentNullException.ThrowIfNull(measurements);
@@ -187,7 +206,57 @@ public sealed class ReconciliationProblem
             }
         }
 
-        return new ReconciliationProblem(network, measurements, options);
+        return new ReconciliationProblem(network, measurements, options, AccumulationRows(network, accumulation));
+    }
+
+    private static double[]? AccumulationRows(ProcessNetwork network, IReadOnlyList<NodeAccumulation>? accumulation)
+    {
+        if (accumulation is null || accumulation.Count == 0)
+        {
+            return null;
+        }
+
+        int nc = network.Components.Count;
+        var rows = new double[network.Nodes.Count * Math.Max(nc, 1)];
+        var seen = new HashSet<int>();
+        for (int i = 0; i < accumulation.Count; i++)
+        {
+            NodeAccumulation a = accumulation[i];
+            string where = $"Accumulation {i} (node '{a.Node}', component '{a.Component}')";
+            int node = a.Node is null ? -1 : network.IndexOfNode(a.Node);
+            if (node < 0)
+            {
+                throw new ArgumentException($"{where} names an unknown node.", nameof(accumulation));
+            }
+
+            int c = 0;
+            if (nc > 0)
+            {
+                c = a.Component is null ? -1 : network.IndexOfComponent(a.Component);
+                if (c < 0)
+                {
+                    throw new ArgumentException($"{where} names a component that is not declared.", nameof(accumulation));
+                }
+            }
+            else if (a.Component is not null)
+            {
+                throw new ArgumentException($"{where} names a component, but the network has no components.", nameof(accumulation));
+            }
+
+            if (!double.IsFinite(a.Rate))
+            {
+                throw new ArgumentException($"{where} has the rate {a.Rate}; expected a finite number.", nameof(accumulation));
+            }
+
+            if (!seen.Add((node * Math.Max(nc, 1)) + c))
+            {
+                throw new ArgumentException($"{where} repeats an accumulation already given.", nameof(accumulation));
+            }
+
+            rows[(node * Math.Max(nc, 1)) + c] = a.Rate;
+        }
+
+        return rows;
     }
 
     /// <summary>Reconciles the readings given at preparation.</summary>
@@ -322,6 +391,7 @@ public sealed class ReconciliationProblem
                 solver.SetHeld(h, working.TryGetValue(v, out double bound) ? bound : _gauged && v == _gauge ? 1.0 : _readings[_measurementOf[v]]);
             }
 
+            solver.SetAccumulation(_gauged ? null : _accumulation);
             SolverOutcome outcome = solver.Solve(_engineReadings.AsSpan(0, measured.Count), out int iterations, out double residual, out double step);
             if (outcome != SolverOutcome.Converged)
             {

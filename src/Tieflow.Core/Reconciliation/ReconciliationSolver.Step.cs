@@ -368,6 +368,15 @@ internal sealed partial class ReconciliationSolver
             }
         }
 
+        if (_accumulation is not null)
+        {
+            for (int row = 0; row < _accumulation.Length; row++)
+            {
+                _f[row] -= _accumulation[row];
+                _scale[row] += Math.Abs(_accumulation[row]);
+            }
+        }
+
         if (_nc > 0)
         {
             int ns = _network.Streams.Count;

@@ -112,6 +112,7 @@ internal sealed partial class ReconciliationSolver
     private int _redundantCount;
     private bool _linearPrepared;
     private bool _balancesCurrent;
+    private double[]? _accumulation;
 
     /// <summary>Lays out a reconciliation.</summary>
     /// <param name="network">The network.</param>
@@ -294,4 +295,14 @@ internal sealed partial class ReconciliationSolver
 
     /// <summary>Sets the value of held quantity <paramref name="h"/> (in the order given at construction).</summary>
     public void SetHeld(int h, double value) => _heldValue[h] = value;
+
+    /// <summary>Sets the known accumulation per node balance row (node x component), or none for steady state.</summary>
+    public void SetAccumulation(double[]? rows)
+    {
+        if (!ReferenceEquals(rows, _accumulation))
+        {
+            _accumulation = rows;
+            _balancesCurrent = false;
+        }
+    }
 }
