@@ -499,9 +499,11 @@ public sealed class UnitAnalyzer
 
             // Consequential alerts are suppressed (ISA-18.2 design-based suppression): while a solvent loss is raised,
             // the flow meters whose balance it opens are not suspects and the efficiencies it biases do not drift.
+            // Likewise while an analyzer is a suspect instrument: the balances every efficiency rests on carry its error.
             bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null));
-            UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking, output);
             UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, output);
+            bool analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
+            UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect, output);
         }
 
         (double steadyState, double softSigma) = SoftSensor(feed, solvent, temperature, steady);

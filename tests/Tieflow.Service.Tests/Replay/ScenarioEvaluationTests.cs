@@ -1,0 +1,61 @@
+using System.Globalization;
+using System.Text.Json;
+using Tieflow.Files;
+
+namespace Tieflow.Service.Tests.Replay;
+
+/// <summary>
+/// The demo's fault scenarios, each simulated for a day and replayed with its ground truth: the fault is detected by the
+/// alert kind the evaluation expects within a bound, and nothing else raises an alert. The bounds are the targets of the
+/// analysis where they are met; where a target is not met the bound is what the analysis achieves, said beside it (and
+/// in docs/monitoring.md, known limits).
+/// </summary>
+public sealed class ScenarioEvaluationTests
+{
+    [Theory]
+    [Trait("Category", "Slow")]
+    [InlineData("fault-entrainment-extract", "entrainment", 1.0)]
+    [InlineData("fault-solvent-loss", "solvent-loss", 2.0)]
+    [InlineData("fault-sensor-stuck", "signal-quality", 0.5)]
+    [InlineData("fault-signal-bad", "signal-quality", 0.5)]
+    [InlineData("fault-signal-frozen", "signal-quality", 0.5)]
+    [InlineData("fault-sensor-bias", "suspect-instrument", 4.0)]
+    [InlineData("fault-sensor-drift", "suspect-instrument", 8.0)]
+    // Target 2 h, not met: the steady-state gate waits for the train to settle after the ramp (about 9 h here).
+    [InlineData("fault-stage-efficiency", "efficiency-drift", 10.0)]
+    [InlineData("fault-column-efficiency", "efficiency-drift", 10.0)]
+    // Entrainment in an interstage extract is re-mixed in the next mixer and not observable with these instruments:
+    // only the absence of false alerts is checked.
+    [InlineData("fault-entrainment", null, 0.0)]
+    public void Replay_FaultScenario_IsDetectedInTimeWithoutFalseAlerts(string name, string? alertKind, double hours)
+    {
+        using var folder = new TempFolder();
+        string scenarioPath = Path.Combine(RepositoryPaths.ConfigSamples, "scenarios", name + ".scenario.json");
+        (string history, string labs, string truth) = SimulatedHistory.Write(ScenarioReader.Load(scenarioPath), folder.Path);
+        string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json");
+
+        CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--json");
+
+        Assert.True(run.ExitCode == 0, run.Error);
+        using JsonDocument doc = JsonDocument.Parse(run.Output);
+        JsonElement evaluation = doc.RootElement.GetProperty("evaluation");
+        Assert.True(evaluation.GetProperty("falseAlerts").GetInt32() == 0, run.Output);
+        JsonElement fault = Assert.Single(evaluation.GetProperty("faults").EnumerateArray());
+        if (alertKind is null)
+        {
+            return;
+        }
+
+        Assert.True(fault.GetProperty("detected").ValueKind == JsonValueKind.String, $"{name}: not detected: {fault}");
+        Assert.Equal(alertKind, fault.GetProperty("alertKind").GetString());
+        TimeSpan delay = TimeSpan.Parse(fault.GetProperty("delay").GetString()!, CultureInfo.InvariantCulture);
+        Assert.True(delay <= TimeSpan.FromHours(hours), $"{name}: detected after {delay}, bound {hours} h");
+
+        if (name == "fault-column-efficiency")
+        {
+            // The column's theoretical stages within 0.3 of the truth (the analysis's target), through the fault too.
+            JsonElement stages = evaluation.GetProperty("theoreticalStagesVsTruthByUnit").GetProperty("C200");
+            Assert.True(stages.GetProperty("maxAbsError").GetDouble() <= 0.3, stages.ToString());
+        }
+    }
+}
