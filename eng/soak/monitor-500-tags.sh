@@ -6,6 +6,9 @@
 # time, two balance windows per unit, into ten minutes at six times the load)
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+# The young-generation budget the systemd unit and the container image set (docs/service.md#memory); override it
+# from the environment to compare.
+export DOTNET_GCgen0size=${DOTNET_GCgen0size:-0x400000}
 seconds=${1:-600}
 speed=${2:-1}
 work=$(mktemp -d); sim=; mon=

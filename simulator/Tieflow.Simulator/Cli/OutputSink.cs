@@ -31,7 +31,8 @@ internal sealed class OutputSink : ISimulationSink, IDisposable
         Server = server;
     }
 
-    public InstrumentServer? Server { get; }
+    /// <summary>The OPC UA server the readings go to, or null (set once it serves: a run that catches up on its clock serves only from then on).</summary>
+    public InstrumentServer? Server { get; set; }
 
     public void OnSample(UnitDescription unit, Instrument instrument, in SignalSample sample)
     {

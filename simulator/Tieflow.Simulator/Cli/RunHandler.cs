@@ -26,18 +26,51 @@ internal static class RunHandler
         }
 
         var simulation = new PlantSimulation(scenario);
+        double stepSeconds = scenario.Step.TotalSeconds;
+
+        // With an anchor the run's clock is the wall clock: plant time = start + speed × (now − anchor). The steps
+        // already due are simulated first, as fast as possible and before the server listens, so that a restarted
+        // simulator continues the same deterministic plant at the time its clock says, and serves from there on.
+        long started = time.GetTimestamp();
+        double offsetSeconds = 0;
+        long catchUp = 0;
+        if (settings.Anchor is DateTimeOffset anchor && settings.Speed is double factor)
+        {
+            offsetSeconds = (time.GetUtcNow() - anchor).TotalSeconds;
+            double plantSeconds = offsetSeconds * factor;
+            if (plantSeconds >= scenario.Duration.TotalSeconds)
+            {
+                throw new ArgumentException(string.Create(CultureInfo.InvariantCulture,
+                    $"--anchor {anchor:u} at --speed {factor:G6}: the plant time now would be {scenario.Start + TimeSpan.FromSeconds(plantSeconds):u}, past the scenario's end ({scenario.End:u}); give a later anchor or a longer scenario"));
+            }
+
+            catchUp = plantSeconds > 0 ? Math.Min(simulation.StepCount, (long)Math.Floor((plantSeconds / stepSeconds) + 1e-9)) : 0;
+        }
+
         InstrumentServer? server = null;
         try
         {
-            if (settings.Serve is { } endpoint)
+            using var sink = new OutputSink(simulation, settings.HistoryPath, settings.LabsPath, settings.TruthPath, null);
+            while (simulation.StepIndex < catchUp && !cancellationToken.IsCancellationRequested)
+            {
+                simulation.Step(sink);
+            }
+
+            if (settings.Anchor is DateTimeOffset a)
+            {
+                error.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"plant time follows the wall clock from the anchor {a:u}: {(catchUp > 0 ? $"resuming at {simulation.Time:u} ({catchUp} steps simulated to get there)" : $"starting at {scenario.Start:u}")}"));
+            }
+
+            if (settings.Serve is { } endpoint && !cancellationToken.IsCancellationRequested)
             {
                 server = await InstrumentServer.StartAsync(scenario.Plant, endpoint, time, cancellationToken, settings.Pki).ConfigureAwait(false);
+                sink.Server = server;
                 error.WriteLine($"serving {scenario.Plant.Units.Sum(u => u.Instruments.Count)} instruments at {server.EndpointUrl}"
                     + (settings.Pki is null ? " (SecurityPolicy None)" : $" (None, Sign and SignAndEncrypt; certificate in {Path.Combine(settings.Pki, "own")})"));
             }
 
-            using var sink = new OutputSink(simulation, settings.HistoryPath, settings.LabsPath, settings.TruthPath, server);
-            bool completed = await LoopAsync(simulation, sink, settings.Speed, error, time, cancellationToken).ConfigureAwait(false);
+            bool completed = await LoopAsync(simulation, sink, settings.Speed, started, offsetSeconds, error, time, cancellationToken).ConfigureAwait(false);
             error.WriteLine(completed
                 ? $"done: {simulation.StepIndex} steps, {scenario.Start:u} to {simulation.Time:u}"
                 : $"stopped at {simulation.Time:u} after {simulation.StepIndex} of {simulation.StepCount} steps; the files hold everything up to then");
@@ -53,11 +86,15 @@ internal static class RunHandler
         return 0;
     }
 
-    private static async Task<bool> LoopAsync(PlantSimulation simulation, OutputSink sink, double? speed, TextWriter error, TimeProvider time, CancellationToken cancellationToken)
+    /// <summary>
+    /// Steps the run to its end, each step at its due time when paced: step i is due <paramref name="offsetSeconds"/>
+    /// less than i steps of plant time at <paramref name="speed"/> after <paramref name="started"/> (a step already due
+    /// runs at once).
+    /// </summary>
+    private static async Task<bool> LoopAsync(PlantSimulation simulation, OutputSink sink, double? speed, long started, double offsetSeconds, TextWriter error, TimeProvider time, CancellationToken cancellationToken)
     {
         double stepSeconds = simulation.Scenario.Step.TotalSeconds;
-        long started = time.GetTimestamp();
-        long lastReport = started;
+        long lastReport = time.GetTimestamp();
         while (!simulation.Finished)
         {
             if (cancellationToken.IsCancellationRequested)
@@ -65,11 +102,10 @@ internal static class RunHandler
                 return false;
             }
 
-            simulation.Step(sink);
             if (speed is double factor)
             {
                 // The wall-clock time at which this step is due; wait only when ahead by more than a few milliseconds.
-                double due = simulation.StepIndex * stepSeconds / factor;
+                double due = (simulation.StepIndex * stepSeconds / factor) - offsetSeconds;
                 double ahead = due - time.GetElapsedTime(started).TotalSeconds;
                 if (ahead > 0.005)
                 {
@@ -85,6 +121,7 @@ internal static class RunHandler
                 }
             }
 
+            simulation.Step(sink);
             if (time.GetElapsedTime(lastReport) >= TimeSpan.FromSeconds(2))
             {
                 lastReport = time.GetTimestamp();

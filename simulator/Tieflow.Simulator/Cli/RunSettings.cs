@@ -11,4 +11,11 @@ internal sealed record RunSettings(string ScenarioPath, string? HistoryPath, str
 {
     /// <summary>Certificate store folder that secures the server, or null for SecurityPolicy None only.</summary>
     public string? Pki { get; init; }
+
+    /// <summary>
+    /// The wall-clock instant at which plant time was the scenario's start, or null: then plant time starts at the
+    /// scenario's start when the run starts. With an anchor, plant time is start + speed × (now − anchor), so that a
+    /// restarted run with the same anchor and speed resumes where its clock says, never back at the start.
+    /// </summary>
+    public DateTimeOffset? Anchor { get; init; }
 }

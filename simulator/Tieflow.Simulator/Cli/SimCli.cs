@@ -1,4 +1,5 @@
 using System.CommandLine;
+using System.Globalization;
 using System.Net;
 using Tieflow.Core.Cascade;
 using Tieflow.Core.Equilibrium;
@@ -46,9 +47,15 @@ internal static class SimCli
         Option<double?> speed = new("--speed") { Description = "Simulated time per wall-clock time (1 = real time; the default with --serve)", HelpName = "FACTOR" };
         Option<bool> fast = new("--as-fast-as-possible") { Description = "No pacing (the default without --serve)" };
         Option<string?> pki = new("--pki") { Description = "With --serve: a certificate store folder; the server gets its certificate in own/ and also offers the signed and encrypted endpoints", HelpName = "DIR" };
+        Option<string?> anchor = new("--anchor")
+        {
+            Description = "Tie plant time to the wall clock: plant time = scenario start + speed x (now - TIME), TIME in UTC (2026-03-02T08:00:00Z). "
+                + "A run restarted with the same anchor and speed resumes the same plant at the time its clock says (the steps due are simulated first), never back at the start",
+            HelpName = "TIME",
+        };
         var command = new Command("run", "Simulates the plant of a scenario and writes the history, lab results and truth, or serves the live values.")
         {
-            scenario, history, labs, truth, serve, speed, fast, pki,
+            scenario, history, labs, truth, serve, speed, fast, pki, anchor,
         };
         command.Validators.Add(result =>
         {
@@ -67,6 +74,19 @@ internal static class SimCli
                 result.AddError("--pki secures the OPC UA server; it needs --serve.");
             }
 
+            if (result.GetValue(anchor) is string at)
+            {
+                if (!TryAnchor(at, out _))
+                {
+                    result.AddError($"--anchor {at}: expected a UTC time such as 2026-03-02T08:00:00Z");
+                }
+
+                if (result.GetValue(fast) || (result.GetValue(speed) is null && result.GetValue(serve) is null))
+                {
+                    result.AddError("--anchor ties plant time to the wall clock; it needs a paced run (--speed, or --serve), not as fast as possible.");
+                }
+            }
+
             if (result.GetValue(serve) is string url && !TryEndpoint(url, out _, out string problem))
             {
                 result.AddError($"--serve {url}: {problem}");
@@ -76,11 +96,16 @@ internal static class SimCli
         {
             Uri? endpoint = parsed.GetValue(serve) is string url && TryEndpoint(url, out Uri? u, out _) ? u : null;
             double? pace = parsed.GetValue(fast) ? null : parsed.GetValue(speed) ?? (endpoint is null ? null : 1.0);
-            var settings = new RunSettings(parsed.GetValue(scenario)!, parsed.GetValue(history), parsed.GetValue(labs), parsed.GetValue(truth), endpoint, pace) { Pki = parsed.GetValue(pki) };
+            var settings = new RunSettings(parsed.GetValue(scenario)!, parsed.GetValue(history), parsed.GetValue(labs), parsed.GetValue(truth), endpoint, pace) { Pki = parsed.GetValue(pki), Anchor = parsed.GetValue(anchor) is string at && TryAnchor(at, out DateTimeOffset t) ? t : null };
             return await Guard(error, () => RunHandler.RunAsync(settings, error, time, cancellationToken)).ConfigureAwait(false);
         });
         return command;
     }
+
+    /// <summary>An anchor time: ISO 8601 with Z or an offset (taken as UTC when it has neither).</summary>
+    internal static bool TryAnchor(string text, out DateTimeOffset anchor) =>
+        DateTimeOffset.TryParse(text, CultureInfo.InvariantCulture, DateTimeStyles.AssumeUniversal | DateTimeStyles.AdjustToUniversal, out anchor)
+        && text.Contains('T', StringComparison.Ordinal);
 
     internal static bool TryEndpoint(string text, out Uri? endpoint, out string problem)
     {

@@ -99,89 +99,111 @@ public sealed partial class OutboxForwarder
 
     /// <summary>Forwards until cancelled; returns then (what is left stays in the outbox).</summary>
     /// <remarks>
-    /// One request is in flight at a time, in the outbox's order. While it is, the batch before it (already accepted)
-    /// is removed from the outbox, so the local commit overlaps the network. After a failure the forwarder starts
-    /// again from the oldest point still held.
+    /// Up to <see cref="OutboxForwarderOptions.MaxInFlight"/> requests are in flight at a time, each a batch in the
+    /// outbox's order. The oldest is awaited first; once it is accepted its points are removed from the outbox while
+    /// the later requests are still on their way, so the local commit overlaps the network. After a failure the
+    /// requests still in flight are awaited and the forwarder starts again from the oldest point still held (a batch
+    /// the server took meanwhile is sent again: its points have the same keys, so the server overwrites them).
     /// </remarks>
     public async Task RunAsync(CancellationToken cancellationToken)
     {
+        int limit = Math.Clamp(_options.MaxInFlight, 1, 8);
         long after = long.MinValue;
-        long? toRemove = null;
-        while (!cancellationToken.IsCancellationRequested)
+        var inFlight = new Queue<(long LastId, int Count, Task Send)>(limit);
+        try
         {
-            IReadOnlyList<OutboxEntry> batch = _outbox.Peek(_options.BatchSize, after);
-            if (batch.Count == 0)
+            while (!cancellationToken.IsCancellationRequested)
             {
-                if (toRemove is { } done)
+                while (inFlight.Count < limit)
                 {
-                    _outbox.Remove(done);
-                    toRemove = null;
+                    IReadOnlyList<OutboxEntry> batch = _outbox.Peek(_options.BatchSize, after);
+                    if (batch.Count == 0)
+                    {
+                        break;
+                    }
+
+                    var lines = new string[batch.Count];
+                    for (int i = 0; i < batch.Count; i++)
+                    {
+                        lines[i] = batch[i].Line;
+                    }
+
+                    Task send = _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).AsTask();
+                    after = batch[^1].Id;
+                    inFlight.Enqueue((after, batch.Count, send));
+                }
+
+                if (inFlight.Count == 0)
+                {
+                    SetState(ForwarderState.Idle);
+                    await WaitAsync(_options.IdlePoll, wakeable: true, cancellationToken).ConfigureAwait(false);
                     continue;
                 }
 
-                SetState(ForwarderState.Idle);
-                await WaitAsync(_options.IdlePoll, wakeable: true, cancellationToken).ConfigureAwait(false);
-                continue;
-            }
-
-            var lines = new string[batch.Count];
-            for (int i = 0; i < batch.Count; i++)
-            {
-                lines[i] = batch[i].Line;
-            }
-
-            Task send = _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).AsTask();
-            if (toRemove is { } accepted)
-            {
-                _outbox.Remove(accepted);
-                toRemove = null;
-            }
-
-            try
-            {
-                await send.ConfigureAwait(false);
-            }
-            catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
-            {
-                return;
-            }
-            catch (Exception e)
-            {
-                Interlocked.Increment(ref _failures);
-                lock (_gate)
+                (long lastId, int count, Task oldest) = inFlight.Dequeue();
+                try
                 {
-                    _lastError = e.Message;
+                    await oldest.ConfigureAwait(false);
+                }
+                catch (OperationCanceledException) when (cancellationToken.IsCancellationRequested)
+                {
+                    return;
+                }
+                catch (Exception e)
+                {
+                    Interlocked.Increment(ref _failures);
+                    lock (_gate)
+                    {
+                        _lastError = e.Message;
+                    }
+
+                    // The later requests are not removed whatever their outcome: everything after the last removed
+                    // batch is read again.
+                    await DrainAsync(inFlight).ConfigureAwait(false);
+                    after = long.MinValue;
+                    LogForwardFailed(_logger, count, _outbox.PendingRecords, e.Message);
+                    SetState(e is BrokenCircuitException ? ForwarderState.CircuitOpen : ForwarderState.Failing);
+                    await WaitAsync(_options.PauseAfterFailure, wakeable: false, cancellationToken).ConfigureAwait(false);
+                    continue;
                 }
 
-                after = long.MinValue;
-                LogForwardFailed(_logger, batch.Count, _outbox.PendingRecords, e.Message);
-                SetState(e is BrokenCircuitException ? ForwarderState.CircuitOpen : ForwarderState.Failing);
-                await WaitAsync(_options.PauseAfterFailure, wakeable: false, cancellationToken).ConfigureAwait(false);
-                continue;
-            }
+                _outbox.Remove(lastId);
+                Interlocked.Add(ref _forwarded, count);
+                bool recovered;
+                lock (_gate)
+                {
+                    _lastSuccess = _time.GetUtcNow();
+                    recovered = _state is ForwarderState.Failing or ForwarderState.CircuitOpen;
+                }
 
-            after = batch[^1].Id;
-            toRemove = after;
-            Interlocked.Add(ref _forwarded, batch.Count);
-            bool recovered;
-            lock (_gate)
-            {
-                _lastSuccess = _time.GetUtcNow();
-                recovered = _state is ForwarderState.Failing or ForwarderState.CircuitOpen;
-            }
+                if (recovered)
+                {
+                    LogForwardResumed(_logger, _outbox.PendingRecords);
+                }
 
-            if (recovered)
-            {
-                LogForwardResumed(_logger, _outbox.PendingRecords);
+                SetState(ForwarderState.Forwarding);
+                BatchForwarded?.Invoke(count);
             }
-
-            SetState(ForwarderState.Forwarding);
-            BatchForwarded?.Invoke(batch.Count);
         }
-
-        if (toRemove is { } last)
+        finally
         {
-            _outbox.Remove(last);
+            // Stopping: the requests still in flight end with the token; what they carried stays in the outbox.
+            await DrainAsync(inFlight).ConfigureAwait(false);
+        }
+    }
+
+    private static async Task DrainAsync(Queue<(long LastId, int Count, Task Send)> inFlight)
+    {
+        while (inFlight.TryDequeue(out var pending))
+        {
+            try
+            {
+                await pending.Send.ConfigureAwait(false);
+            }
+            catch (Exception)
+            {
+                // Its points stay in the outbox and are sent again.
+            }
         }
     }
 

@@ -6,6 +6,12 @@ public sealed class OutboxForwarderOptions
     /// <summary>Points per write request.</summary>
     public int BatchSize { get; init; } = 5000;
 
+    /// <summary>
+    /// Write requests in flight at once (1 to 8): while the server takes one batch the next is read and compressed.
+    /// Batches are removed from the outbox in order, each once it and every batch before it were accepted.
+    /// </summary>
+    public int MaxInFlight { get; init; } = 2;
+
     /// <summary>Retries of one batch before the attempt counts as failed.</summary>
     public int RetryAttempts { get; init; } = 3;
 

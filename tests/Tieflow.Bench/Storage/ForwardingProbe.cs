@@ -12,11 +12,12 @@ namespace Tieflow.Bench.Storage;
 /// <summary>
 /// Target: the outbox forwards at least 100,000 points per second to victoria-metrics. Starts /usr/bin/victoria-metrics
 /// on a free loopback port with a temporary data folder, fills an outbox, times the forwarder draining it, and checks
-/// the count the server holds afterwards. <c>dotnet run -c Release --project tests/Tieflow.Bench -- forward 300000</c>.
+/// the count the server holds afterwards. <c>dotnet run -c Release --project tests/Tieflow.Bench -- forward 300000 [BATCH [IN-FLIGHT]]</c>; after the
+/// forwarding it also times the parts alone: reading the outbox, and the same batches written with and without gzip.
 /// </summary>
 internal static class ForwardingProbe
 {
-    public static async Task RunAsync(int count, int batchSize)
+    public static async Task RunAsync(int count, int batchSize, int inFlight)
     {
         string folder = Path.Combine(Path.GetTempPath(), "tieflow-forward-" + Guid.NewGuid().ToString("N")[..8]);
         Directory.CreateDirectory(folder);
@@ -63,8 +64,30 @@ internal static class ForwardingProbe
             }
 
             fill.Stop();
+
+            // The parts on their own: reading the outbox in batches, and sending the same batches without the outbox.
+            using Process me = Process.GetCurrentProcess();
+            TimeSpan readCpu0 = me.TotalProcessorTime;
+            var read = Stopwatch.StartNew();
+            var batches = new List<string[]>();
+            for (long after = long.MinValue; ;)
+            {
+                IReadOnlyList<OutboxEntry> batch = outbox.Peek(batchSize, after);
+                if (batch.Count == 0)
+                {
+                    break;
+                }
+
+                batches.Add([.. batch.Select(e => e.Line)]);
+                after = batch[^1].Id;
+            }
+
+            read.Stop();
+            me.Refresh();
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"outbox read alone: {count:N0} points in {read.Elapsed.TotalSeconds:F2} s ({count / read.Elapsed.TotalSeconds:N0}/s, CPU {(me.TotalProcessorTime - readCpu0).TotalSeconds:F2} s), {batches.Sum(b => b.Sum(l => (long)l.Length + 1)) / 1e6:F1} MB of line protocol"));
             using var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = url, Org = "tieflow", Bucket = "tieflow" });
-            var forwarder = new OutboxForwarder(outbox, writer, new OutboxForwarderOptions { BatchSize = batchSize }, TimeProvider.System);
+            var forwarder = new OutboxForwarder(outbox, writer, new OutboxForwarderOptions { BatchSize = batchSize, MaxInFlight = inFlight }, TimeProvider.System);
             using var cts = new CancellationTokenSource();
             using Process self = Process.GetCurrentProcess();
             TimeSpan cpu0 = self.TotalProcessorTime;
@@ -95,9 +118,26 @@ internal static class ForwardingProbe
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"outbox fill: {count:N0} records in {fill.Elapsed.TotalSeconds:F2} s ({count / fill.Elapsed.TotalSeconds:N0}/s)"));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"forwarding: {forwarder.Forwarded:N0} points in {clock.Elapsed.TotalSeconds:F2} s = {forwarder.Forwarded / clock.Elapsed.TotalSeconds:N0} points/s (batches of {batchSize}, gzip); failures {forwarder.Failures}; forwarder CPU {cpu.TotalSeconds:F2} s ({forwarder.Forwarded / cpu.TotalSeconds:N0} points per CPU second)"));
+                $"forwarding: {forwarder.Forwarded:N0} points in {clock.Elapsed.TotalSeconds:F2} s = {forwarder.Forwarded / clock.Elapsed.TotalSeconds:N0} points/s (batches of {batchSize}, {inFlight} in flight, gzip); failures {forwarder.Failures}; forwarder CPU {cpu.TotalSeconds:F2} s ({forwarder.Forwarded / cpu.TotalSeconds:N0} points per CPU second)"));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"server holds {samples:N0} tieflow_signal_value samples of {signals:N0} written (read back after {readBack.Elapsed.TotalSeconds:F1} s)"));
+            foreach (bool zip in new[] { true, false })
+            {
+                using var alone = new InfluxLineWriter(new InfluxWriterOptions { Url = url, Org = "tieflow", Bucket = "probe", Gzip = zip });
+                self.Refresh();
+                TimeSpan sendCpu0 = self.TotalProcessorTime;
+                var send = Stopwatch.StartNew();
+                foreach (string[] b in batches)
+                {
+                    await alone.WriteAsync(b, CancellationToken.None);
+                }
+
+                send.Stop();
+                self.Refresh();
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"writes alone ({(zip ? "gzip" : "no gzip")}, one at a time): {count:N0} points in {send.Elapsed.TotalSeconds:F2} s ({count / send.Elapsed.TotalSeconds:N0}/s, CPU {(self.TotalProcessorTime - sendCpu0).TotalSeconds:F2} s)"));
+            }
+
         }
         finally
         {

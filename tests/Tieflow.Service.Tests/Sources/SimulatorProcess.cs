@@ -41,8 +41,12 @@ internal sealed class SimulatorProcess : IDisposable
         return ((IPEndPoint)listener.LocalEndpoint).Port;
     }
 
-    /// <summary>Starts the simulator serving <paramref name="scenario"/> on <paramref name="port"/> and waits until it serves.</summary>
-    public static async Task<SimulatorProcess> StartAsync(string scenario, int port, double speed, string? history = null)
+    /// <summary>
+    /// Starts the simulator serving <paramref name="scenario"/> on <paramref name="port"/> and waits until it serves;
+    /// with <paramref name="anchor"/>, plant time follows the wall clock from it (<c>--anchor</c>), so that a restart
+    /// resumes the plant where the clock says.
+    /// </summary>
+    public static async Task<SimulatorProcess> StartAsync(string scenario, int port, double speed, string? history = null, DateTimeOffset? anchor = null)
     {
         string dll = Path.Combine(AppContext.BaseDirectory, "tieflow-sim.dll");
         Assert.True(File.Exists(dll), $"the simulator is not built next to the tests: {dll}");
@@ -61,6 +65,12 @@ internal sealed class SimulatorProcess : IDisposable
         {
             start.ArgumentList.Add("--history");
             start.ArgumentList.Add(history);
+        }
+
+        if (anchor is DateTimeOffset at)
+        {
+            start.ArgumentList.Add("--anchor");
+            start.ArgumentList.Add(at.UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss.fff'Z'", System.Globalization.CultureInfo.InvariantCulture));
         }
 
         var process = new Process { StartInfo = start, EnableRaisingEvents = true };
