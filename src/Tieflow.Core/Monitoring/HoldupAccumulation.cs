@@ -31,8 +31,9 @@ public static class HoldupAccumulation
     /// <param name="temperatureKelvin">The unit's temperature.</param>
     /// <param name="raffinateSolute">Per stage (index stage - 1) the solute fraction of the raffinate leaving it, or null.</param>
     /// <param name="raffinateSlope">Per stage its slope dx/dt, fraction per hour, or null when not known.</param>
+    /// <param name="soluteRate">When given (one per stage), receives each stage's solute accumulation (zero where none is estimated).</param>
     /// <returns>The accumulation per stage node and component, in the unit's flow unit (per hour); empty when no slope is known.</returns>
-    public static IReadOnlyList<NodeAccumulation> Estimate(UnitModel model, CascadeResult design, double temperatureKelvin, IReadOnlyList<double?> raffinateSolute, IReadOnlyList<double?> raffinateSlope)
+    public static IReadOnlyList<NodeAccumulation> Estimate(UnitModel model, CascadeResult design, double temperatureKelvin, IReadOnlyList<double?> raffinateSolute, IReadOnlyList<double?> raffinateSlope, double[]? soluteRate = null)
     {
         ArgumentNullException.ThrowIfNull(model);
         ArgumentNullException.ThrowIfNull(design);
@@ -69,6 +70,11 @@ public static class HoldupAccumulation
             Ternary dz = (1 / (l + v)) * ((l * dR) + (v * dE));
             double hR = unit.Holdup.SettlerKg * l / (l + v), hE = unit.Holdup.SettlerKg * v / (l + v);
             Ternary rate = (hR * dR) + (hE * dE) + (unit.Holdup.MixerKg * dz);
+            if (soluteRate is not null)
+            {
+                soluteRate[k - 1] = rate.Solute;
+            }
+
             string node = UnitModel.StageNode(k);
             for (int c = 0; c < 3; c++)
             {

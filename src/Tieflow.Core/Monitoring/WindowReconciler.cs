@@ -99,13 +99,13 @@ public sealed class WindowReconciler
                 raffinateSolute[k - 1] = byKey.TryGetValue(QuantityKey.FractionOf(_model.StreamId(UnitStream.RaffinateOf(k)), solute), out WindowMeasurement? m) ? m.Value : null;
             }
 
-            accumulation = HoldupAccumulation.Estimate(_model, _nominal, temperatureKelvin, raffinateSolute, [.. raffinateSlopes.Select(t => t?.Slope)]);
-            foreach (NodeAccumulation a in accumulation)
+            var soluteRate = new double[unit.Stages];
+            accumulation = HoldupAccumulation.Estimate(_model, _nominal, temperatureKelvin, raffinateSolute, [.. raffinateSlopes.Select(t => t?.Slope)], soluteRate);
+            for (int k = 1; k <= unit.Stages; k++)
             {
-                int k = int.Parse(a.Node.AsSpan("stage-".Length), System.Globalization.CultureInfo.InvariantCulture);
-                if (a.Component == solute && raffinateSlopes[k - 1] is (double slope, double sigma) && slope != 0)
+                if (raffinateSlopes[k - 1] is (double slope, double sigma) && slope != 0)
                 {
-                    accumulationSigma[k - 1] = Math.Abs(a.Rate * sigma / slope);
+                    accumulationSigma[k - 1] = Math.Abs(soluteRate[k - 1] * sigma / slope);
                 }
             }
         }
