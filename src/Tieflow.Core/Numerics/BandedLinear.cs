@@ -104,4 +104,148 @@ internal sealed class BandedLinear
 
         return true;
     }
+    /// <summary>
+    /// Solves A x = b in place by Householder QR on the band (x into b); A is overwritten by R, upper triangular with
+    /// kl + ku super-diagonals, kept for <see cref="NormalInverseBand"/>. False when a diagonal of R falls below
+    /// <paramref name="relativeTolerance"/> times the largest (A singular or too near it to trust).
+    /// </summary>
+    public bool SolveByQr(double[] b, double relativeTolerance)
+    {
+        int w = _width;
+        int kl = _kl;
+        double[] a = _a;
+        Span<double> v = stackalloc double[kl + 1];
+        double largest = 0;
+        double smallest = double.PositiveInfinity;
+        for (int k = 0; k < _n; k++)
+        {
+            int lastRow = Math.Min(k + kl, _n - 1);
+            int lastCol = Math.Min(k + kl + _ku, _n - 1);
+            int len = lastRow - k + 1;
+            double norm2 = 0;
+            for (int r = 0; r < len; r++)
+            {
+                double x = a[((k + r) * w) + kl - r];
+                v[r] = x;
+                norm2 += x * x;
+            }
+
+            double norm = Math.Sqrt(norm2);
+            double alpha = v[0] > 0 ? -norm : norm;
+            if (norm > 0 && len > 1)
+            {
+                v[0] -= alpha;
+                double vv = norm2 - (2 * alpha * (v[0] + alpha)) + (alpha * alpha);
+                if (vv > 0)
+                {
+                    double beta = 2 / vv;
+                    for (int j = k + 1; j <= lastCol; j++)
+                    {
+                        double s = 0;
+                        int index = (k * w) + j - k + kl;
+                        for (int r = 0; r < len; r++)
+                        {
+                            s += v[r] * a[index];
+                            index += w - 1;
+                        }
+
+                        s *= beta;
+                        if (s == 0)
+                        {
+                            continue;
+                        }
+
+                        index = (k * w) + j - k + kl;
+                        for (int r = 0; r < len; r++)
+                        {
+                            a[index] -= s * v[r];
+                            index += w - 1;
+                        }
+                    }
+
+                    double sb = 0;
+                    for (int r = 0; r < len; r++)
+                    {
+                        sb += v[r] * b[k + r];
+                    }
+
+                    sb *= beta;
+                    for (int r = 0; r < len; r++)
+                    {
+                        b[k + r] -= sb * v[r];
+                    }
+
+                    for (int r = 1; r < len; r++)
+                    {
+                        a[((k + r) * w) + kl - r] = 0;
+                    }
+
+                    a[(k * w) + kl] = alpha;
+                }
+            }
+
+            double d = Math.Abs(a[(k * w) + kl]);
+            largest = Math.Max(largest, d);
+            smallest = Math.Min(smallest, d);
+        }
+
+        if (!(smallest > relativeTolerance * largest))
+        {
+            return false;
+        }
+
+        int upper = kl + _ku;
+        for (int i = _n - 1; i >= 0; i--)
+        {
+            double sum = b[i];
+            int lastCol = Math.Min(i + upper, _n - 1);
+            int rowBase = (i * w) - i + kl;
+            for (int j = i + 1; j <= lastCol; j++)
+            {
+                sum -= a[rowBase + j] * b[j];
+            }
+
+            b[i] = sum / a[rowBase + i];
+        }
+
+        return true;
+    }
+
+    /// <summary>
+    /// After <see cref="SolveByQr"/>: the entries (A'A)^-1 (i, j) for j = i to i + <paramref name="band"/> (band at
+    /// least kl + ku) into <paramref name="sigma"/>, row i at i * (band + 1) + (j - i), by the recurrence of Takahashi,
+    /// Fagan and Chin (1973) on R: R S = R^-T, whose upper triangle is diagonal, read from the last row up. Cost
+    /// O(n band (kl + ku)), linear in n, though the inverse itself is full.
+    /// </summary>
+    public void NormalInverseBand(double[] sigma, int band)
+    {
+        int w = _width;
+        int kl = _kl;
+        int upper = kl + _ku;
+        int stride = band + 1;
+        double[] a = _a;
+        for (int i = _n - 1; i >= 0; i--)
+        {
+            int rowBase = (i * w) - i + kl;
+            double rii = a[rowBase + i];
+            int lastK = Math.Min(i + upper, _n - 1);
+            int lastJ = Math.Min(i + band, _n - 1);
+            for (int j = lastJ; j >= i; j--)
+            {
+                double s = j == i ? 1 / rii : 0;
+                for (int k = i + 1; k <= lastK; k++)
+                {
+                    double rik = a[rowBase + k];
+                    if (rik == 0)
+                    {
+                        continue;
+                    }
+
+                    s -= rik * (k <= j ? sigma[(k * stride) + j - k] : sigma[(j * stride) + k - j]);
+                }
+
+                sigma[(i * stride) + j - i] = s / rii;
+            }
+        }
+    }
 }

@@ -112,6 +112,7 @@ internal sealed partial class ReconciliationSolver
         _band = new BandedLinear(n, width, width);
         _bandRhs = new double[n];
         _zPrevious = new double[_n];
+        PrepareBandedCovariance(width);
     }
 
     // Positions of the nodes of a graph in reverse Cuthill-McKee order, each component from a node of least degree.
@@ -157,6 +158,19 @@ internal sealed partial class ReconciliationSolver
     private bool BandedStep(out double step)
     {
         step = double.NaN;
+        AssembleBand();
+        if (!_band!.Solve(_bandRhs))
+        {
+            return false;
+        }
+
+        step = ApplyBandedStep();
+        return true;
+    }
+
+    // The optimality conditions linearised at the current point, into the band and its right-hand side.
+    private void AssembleBand()
+    {
         int m = _m;
         int[] order = _order!;
         BandedLinear band = _band!;
@@ -204,12 +218,13 @@ internal sealed partial class ReconciliationSolver
         {
             rhs[order[_nx + _nu + i]] = -_f[i];
         }
+    }
 
-        if (!band.Solve(rhs))
-        {
-            return false;
-        }
-
+    // Takes the step solved on the band; returns the largest relative change.
+    private double ApplyBandedStep()
+    {
+        int[] order = _order!;
+        double[] rhs = _bandRhs;
         double flowScale = StepFlowScale();
         double largest = 0;
         for (int k = 0; k < _nx; k++)
@@ -235,8 +250,7 @@ internal sealed partial class ReconciliationSolver
 
         UpdateDependents();
         _balancesCurrent = false;
-        step = largest;
-        return true;
+        return largest;
     }
 
     // After a dense factorisation: whether the banded step's condition holds for this layout.
