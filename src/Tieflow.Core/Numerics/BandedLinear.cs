@@ -12,6 +12,7 @@ internal sealed class BandedLinear
     private readonly int _ku;
     private readonly int _width;
     private readonly double[] _a;
+    private readonly double[] _d;
 
     public BandedLinear(int n, int kl, int ku)
     {
@@ -20,6 +21,7 @@ internal sealed class BandedLinear
         _ku = ku;
         _width = (2 * kl) + ku + 1;
         _a = new double[n * _width];
+        _d = new double[n];
     }
 
     public void Clear() => Array.Clear(_a);
@@ -114,6 +116,12 @@ internal sealed class BandedLinear
         int w = _width;
         int kl = _kl;
         double[] a = _a;
+        Equilibrate();
+        for (int i = 0; i < _n; i++)
+        {
+            b[i] *= _d[i];
+        }
+
         Span<double> v = stackalloc double[kl + 1];
         double largest = 0;
         double smallest = double.PositiveInfinity;
@@ -208,11 +216,56 @@ internal sealed class BandedLinear
             b[i] = sum / a[rowBase + i];
         }
 
+        for (int i = 0; i < _n; i++)
+        {
+            b[i] *= _d[i];
+        }
+
         return true;
     }
 
+    /// <summary>After <see cref="SolveByQr"/>: the scaling d of the rows and columns, R being the factor of D A D.</summary>
+    public double ScaleAt(int i) => _d[i];
+
+    // Symmetric equilibration (a few sweeps of Ruiz's scaling, d_i = 1 / sqrt(largest |a_ij| of row i)) of a symmetric
+    // band: D A D with rows and columns of largest entry near one, for the conditioning of the QR and the inverse.
+    private void Equilibrate()
+    {
+        int w = _width;
+        int kl = _kl;
+        double[] a = _a;
+        Span<double> f = _n <= 1024 ? stackalloc double[_n] : new double[_n];
+        Array.Fill(_d, 1.0);
+        for (int sweep = 0; sweep < 3; sweep++)
+        {
+            for (int i = 0; i < _n; i++)
+            {
+                double largest = 0;
+                int first = Math.Max(0, i - kl);
+                int last = Math.Min(_n - 1, i + _ku);
+                for (int j = first; j <= last; j++)
+                {
+                    largest = Math.Max(largest, Math.Abs(a[(i * w) + j - i + kl]));
+                }
+
+                f[i] = largest > 0 ? 1 / Math.Sqrt(largest) : 1;
+                _d[i] *= f[i];
+            }
+
+            for (int i = 0; i < _n; i++)
+            {
+                int first = Math.Max(0, i - kl);
+                int last = Math.Min(_n - 1, i + _ku);
+                for (int j = first; j <= last; j++)
+                {
+                    a[(i * w) + j - i + kl] *= f[i] * f[j];
+                }
+            }
+        }
+    }
+
     /// <summary>
-    /// After <see cref="SolveByQr"/>: the entries (A'A)^-1 (i, j) for j = i to i + <paramref name="band"/> (band at
+    /// After <see cref="SolveByQr"/>: the entries (R'R)^-1 = (D A D)^-2 (i, j) for j = i to i + <paramref name="band"/> (band at
     /// least kl + ku) into <paramref name="sigma"/>, row i at i * (band + 1) + (j - i), by the recurrence of Takahashi,
     /// Fagan and Chin (1973) on R: R S = R^-T, whose upper triangle is diagonal, read from the last row up. Cost
     /// O(n band (kl + ku)), linear in n, though the inverse itself is full.

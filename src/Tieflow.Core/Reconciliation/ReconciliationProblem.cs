@@ -127,6 +127,9 @@ public sealed class ReconciliationProblem
     /// <summary>Whether any layout prepared so far takes its steps on the band (for the tests).</summary>
     internal bool UsesBand => _layouts.Values.Any(l => l.UsesBand);
 
+    /// <summary>Whether any layout closed its last solve on the band (classification and covariance from the band; for the tests).</summary>
+    internal bool ClosedOnBand => _layouts.Values.Any(l => l.ClosedOnBand);
+
     /// <summary>
     /// Prepares a reconciliation. The measurements fix which quantities are measured and their standard deviations;
     /// their values are the default readings of <see cref="Reconcile()"/>.

@@ -1,3 +1,5 @@
+using Tieflow.Core.Numerics;
+
 namespace Tieflow.Core.Reconciliation;
 
 /// <content>
@@ -30,6 +32,9 @@ internal sealed partial class ReconciliationSolver
 
     // Whether the last solution was closed on the band (its multipliers are in _lambda, not in _mu).
     private bool _closedOnBand;
+
+    /// <summary>Whether the last solve closed on the band (for the tests).</summary>
+    internal bool ClosedOnBand => _closedOnBand;
 
     private void PrepareBandedCovariance(int width)
     {
@@ -113,7 +118,7 @@ internal sealed partial class ReconciliationSolver
         for (int k = 0; k < _nx; k++)
         {
             double s2 = _sigma2[k];
-            double va = s2 * (1 - CovarianceOf(k, k));
+            double va = s2 * AdjustmentVarianceOf(k);
             _redundant[k] = va > RedundancyTolerance * s2;
             if (_redundant[k])
             {
@@ -176,12 +181,15 @@ internal sealed partial class ReconciliationSolver
 
     private double ScaleOfUnknown(int u) => u < _nx ? Math.Sqrt(_sigma2[u]) : 1.0;
 
-    // M_ab = (K^-1)_ab = sum over j of S(a, j) K(j, b), for a and b unknowns of z.
+    // (K^-1)_ab for any unknown a and an unknown b of z: with D K D = Q R, K^-1 = D (R'R)^-1 (D K D) D, so
+    // (K^-1)_ab = d_a d_b^2 sum over j of S(a, j) d_j K(j, b).
     private double CovarianceOf(int a, int b)
     {
         int[] order = _order!;
+        BandedLinear band = _band!;
         int pa = order[a];
-        double sum = b < _nx ? SigmaAt(pa, order[b]) : 0;
+        int pb = order[b];
+        double sum = b < _nx ? SigmaAt(pa, pb) * band.ScaleAt(pb) : 0;
         double scale = b < _nx ? Math.Sqrt(_sigma2[b]) : 1.0;
         int m = _m;
         for (int x = _zStart[b]; x < _zStart[b + 1]; x++)
@@ -190,7 +198,25 @@ internal sealed partial class ReconciliationSolver
             int i = _patternRow[e];
             int c = _patternColumn[e];
             double value = c >= 0 ? _ax[(c * m) + i] * scale : _au[(~c * m) + i];
-            sum += SigmaAt(pa, order[_nx + _nu + i]) * value;
+            int pj = order[_nx + _nu + i];
+            sum += SigmaAt(pa, pj) * band.ScaleAt(pj) * value;
+        }
+
+        double db = band.ScaleAt(pb);
+        return band.ScaleAt(pa) * db * db * sum;
+    }
+
+    // The variance of the scaled adjustment of measurement k, (I - M_tt)_kk = sum over the balances i of
+    // K(t_k, lambda_i) (K^-1)(lambda_i, t_k) (the t rows of K K^-1 = I), free of the cancellation in 1 - M_kk.
+    private double AdjustmentVarianceOf(int k)
+    {
+        double scale = Math.Sqrt(_sigma2[k]);
+        double sum = 0;
+        for (int x = _zStart[k]; x < _zStart[k + 1]; x++)
+        {
+            int e = _zEntry[x];
+            int i = _patternRow[e];
+            sum += _ax[(k * _m) + i] * scale * CovarianceOf(_nx + _nu + i, k);
         }
 
         return sum;
