@@ -62,19 +62,22 @@ internal sealed class BandedLinear
                 return false;
             }
 
+            // Row i's columns k to lastCol are contiguous in the storage.
+            int count = lastCol - k + 1;
             if (pivot != k)
             {
-                for (int j = k; j <= lastCol; j++)
+                Span<double> rowK = _a.AsSpan((k * _width) + _kl, count);
+                Span<double> rowP = _a.AsSpan((pivot * _width) + (k - pivot + _kl), count);
+                for (int j = 0; j < count; j++)
                 {
-                    double t = Get(k, j);
-                    Set(k, j, Get(pivot, j));
-                    Set(pivot, j, t);
+                    (rowK[j], rowP[j]) = (rowP[j], rowK[j]);
                 }
 
                 (b[k], b[pivot]) = (b[pivot], b[k]);
             }
 
             double diag = Get(k, k);
+            ReadOnlySpan<double> pivotRow = _a.AsSpan((k * _width) + _kl + 1, count - 1);
             for (int i = k + 1; i <= lastRow; i++)
             {
                 double factor = Get(i, k) / diag;
@@ -83,11 +86,7 @@ internal sealed class BandedLinear
                     continue;
                 }
 
-                for (int j = k + 1; j <= lastCol; j++)
-                {
-                    _a[(i * _width) + (j - i + _kl)] -= factor * Get(k, j);
-                }
-
+                DenseKernels.Axpy(-factor, pivotRow, _a.AsSpan((i * _width) + (k + 1 - i + _kl), count - 1));
                 b[i] -= factor * b[k];
             }
         }
@@ -123,6 +122,7 @@ internal sealed class BandedLinear
         }
 
         Span<double> v = stackalloc double[kl + 1];
+        Span<double> work = stackalloc double[kl + _ku + 1];
         double largest = 0;
         double smallest = double.PositiveInfinity;
         for (int k = 0; k < _n; k++)
@@ -146,29 +146,25 @@ internal sealed class BandedLinear
                 double vv = norm2 - (2 * alpha * (v[0] + alpha)) + (alpha * alpha);
                 if (vv > 0)
                 {
+                    // H = I - beta v v' on rows k to lastRow, columns k + 1 to lastCol: s = beta v' A, A -= v s'
+                    // (each row's columns contiguous in the storage).
                     double beta = 2 / vv;
-                    for (int j = k + 1; j <= lastCol; j++)
+                    int count = lastCol - k;
+                    Span<double> sum = work[..count];
+                    sum.Clear();
+                    for (int r = 0; r < len; r++)
                     {
-                        double s = 0;
-                        int index = (k * w) + j - k + kl;
-                        for (int r = 0; r < len; r++)
-                        {
-                            s += v[r] * a[index];
-                            index += w - 1;
-                        }
+                        DenseKernels.Axpy(v[r], a.AsSpan(((k + r) * w) + kl - r + 1, count), sum);
+                    }
 
-                        s *= beta;
-                        if (s == 0)
-                        {
-                            continue;
-                        }
+                    for (int j = 0; j < count; j++)
+                    {
+                        sum[j] *= beta;
+                    }
 
-                        index = (k * w) + j - k + kl;
-                        for (int r = 0; r < len; r++)
-                        {
-                            a[index] -= s * v[r];
-                            index += w - 1;
-                        }
+                    for (int r = 0; r < len; r++)
+                    {
+                        DenseKernels.Axpy(-v[r], sum, a.AsSpan(((k + r) * w) + kl - r + 1, count));
                     }
 
                     double sb = 0;
@@ -265,17 +261,17 @@ internal sealed class BandedLinear
     }
 
     /// <summary>
-    /// After <see cref="SolveByQr"/>: the entries (R'R)^-1 = (D A D)^-2 (i, j) for j = i to i + <paramref name="band"/> (band at
-    /// least kl + ku) into <paramref name="sigma"/>, row i at i * (band + 1) + (j - i), by the recurrence of Takahashi,
-    /// Fagan and Chin (1973) on R: R S = R^-T, whose upper triangle is diagonal, read from the last row up. Cost
-    /// O(n band (kl + ku)), linear in n, though the inverse itself is full.
+    /// After <see cref="SolveByQr"/>: the entries S(i, j) of S = (R'R)^-1 = (D A D)^-2 for |i - j| up to
+    /// <paramref name="band"/> (at least kl + ku), row i at i * (2 band + 1) + (j - i + band), by the recurrence of
+    /// Takahashi, Fagan and Chin (1973) on R: R S = R^-T, whose upper triangle is diagonal, read from the last row up.
+    /// Cost O(n band (kl + ku)), linear in n, though the inverse itself is full.
     /// </summary>
     public void NormalInverseBand(double[] sigma, int band)
     {
         int w = _width;
         int kl = _kl;
         int upper = kl + _ku;
-        int stride = band + 1;
+        int stride = (2 * band) + 1;
         double[] a = _a;
         for (int i = _n - 1; i >= 0; i--)
         {
@@ -283,21 +279,38 @@ internal sealed class BandedLinear
             double rii = a[rowBase + i];
             int lastK = Math.Min(i + upper, _n - 1);
             int lastJ = Math.Min(i + band, _n - 1);
-            for (int j = lastJ; j >= i; j--)
+            int count = lastJ - i;
+
+            // S(i, j) for j > i: -(1 / r_ii) sum over k of r_ik S(k, j), rows k > i done (both sides of their diagonal).
+            Span<double> row = sigma.AsSpan((i * stride) + band + 1, count);
+            row.Clear();
+            for (int k = i + 1; k <= lastK; k++)
             {
-                double s = j == i ? 1 / rii : 0;
-                for (int k = i + 1; k <= lastK; k++)
+                double rik = a[rowBase + k];
+                if (rik != 0)
                 {
-                    double rik = a[rowBase + k];
-                    if (rik == 0)
-                    {
-                        continue;
-                    }
-
-                    s -= rik * (k <= j ? sigma[(k * stride) + j - k] : sigma[(j * stride) + k - j]);
+                    DenseKernels.Axpy(-rik, sigma.AsSpan((k * stride) + (i + 1 - k + band), count), row);
                 }
+            }
 
-                sigma[(i * stride) + j - i] = s / rii;
+            double diagonal = 1 / rii;
+            for (int k = i + 1; k <= lastK; k++)
+            {
+                diagonal -= a[rowBase + k] * row[k - i - 1] / rii;
+            }
+
+            for (int j = 0; j < count; j++)
+            {
+                row[j] /= rii;
+            }
+
+            sigma[(i * stride) + band] = diagonal / rii;
+
+            // The lower side of the rows below, for the rows above.
+            for (int j = 0; j < count; j++)
+            {
+                int r = i + 1 + j;
+                sigma[(r * stride) + (i - r + band)] = row[j];
             }
         }
     }

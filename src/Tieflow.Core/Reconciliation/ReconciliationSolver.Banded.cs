@@ -30,6 +30,9 @@ internal sealed partial class ReconciliationSolver
     // independent projected balances (the banded step's condition).
     private bool _bandTrusted;
 
+    // Whether every nonzero of _ax and _au lies in the pattern (they hold a Jacobian, not a dense factorisation's blocks).
+    private bool _jacobianInPattern;
+
     /// <summary>Whether this layout solves its steps on the band (for the tests and the benchmarks).</summary>
     internal bool UsesBand => _order is not null;
 

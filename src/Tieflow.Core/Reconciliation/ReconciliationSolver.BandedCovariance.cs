@@ -24,7 +24,7 @@ internal sealed partial class ReconciliationSolver
     private int[] _zStart = [];
     private int[] _zEntry = [];
 
-    // Entries of S = (R'R)^-1 from the diagonal to _sigmaBand beyond it, row-wise; _lambda the balances' multipliers
+    // Entries of S = (R'R)^-1 up to _sigmaWidth either side of the diagonal, row-wise; _lambda the balances' multipliers
     // of the last banded close.
     private double[] _sigmaBand = [];
     private int _sigmaWidth;
@@ -85,7 +85,7 @@ internal sealed partial class ReconciliationSolver
 
         int n = _nx + _nu + _m;
         _sigmaWidth = Math.Min(Math.Max(2 * width, span + width), n - 1);
-        _sigmaBand = new double[n * (_sigmaWidth + 1)];
+        _sigmaBand = new double[n * ((2 * _sigmaWidth) + 1)];
         _lambda = new double[_m];
     }
 
@@ -222,9 +222,5 @@ internal sealed partial class ReconciliationSolver
         return sum;
     }
 
-    private double SigmaAt(int i, int j)
-    {
-        int stride = _sigmaWidth + 1;
-        return i <= j ? _sigmaBand[(i * stride) + j - i] : _sigmaBand[(j * stride) + i - j];
-    }
+    private double SigmaAt(int i, int j) => _sigmaBand[(i * ((2 * _sigmaWidth) + 1)) + (j - i + _sigmaWidth)];
 }
