@@ -81,7 +81,7 @@ public sealed class BandedReconciliationTests
         int closedOnBand = 0;
         for (int trial = 0; trial < 3; trial++)
         {
-            int stages = random.Next(20, 49);
+            int stages = random.Next(12, 49);
             ProcessNetwork train = TestNetworks.Train(stages);
             double[] truth = TestNetworks.TrainState(stages, 80 + (60 * random.NextDouble()), 120 + (80 * random.NextDouble()));
             var measurements = new List<Measurement>();
