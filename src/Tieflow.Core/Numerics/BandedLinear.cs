@@ -3,7 +3,9 @@ namespace Tieflow.Core.Numerics;
 /// <summary>
 /// Gaussian elimination with partial pivoting on a banded matrix (kl sub-diagonals, ku super-diagonals), in the
 /// storage of LAPACK's gbsv: row i keeps columns i - kl to i + ku + kl, the extra kl columns for the fill-in of row
-/// swaps. Cost O(n kl (kl + ku)), so long cascades solve in time linear in their stage count.
+/// swaps. Cost O(n kl (kl + ku)), so long cascades solve in time linear in their stage count. A symmetric band can
+/// instead be solved by Householder QR after a symmetric equilibration, which keeps R for the entries of the inverse
+/// near the diagonal (<see cref="NormalInverseBand"/>), in time linear in n as well.
 /// </summary>
 internal sealed class BandedLinear
 {
@@ -106,8 +108,9 @@ internal sealed class BandedLinear
         return true;
     }
     /// <summary>
-    /// Solves A x = b in place by Householder QR on the band (x into b); A is overwritten by R, upper triangular with
-    /// kl + ku super-diagonals, kept for <see cref="NormalInverseBand"/>. False when a diagonal of R falls below
+    /// Solves A x = b in place for a symmetric A (kl = ku) by Householder QR of D A D on the band, D the equilibration
+    /// (x into b); A is overwritten by R, upper triangular with kl + ku super-diagonals, kept for
+    /// <see cref="NormalInverseBand"/>. False when a diagonal of R falls below
     /// <paramref name="relativeTolerance"/> times the largest (A singular or too near it to trust).
     /// </summary>
     public bool SolveByQr(double[] b, double relativeTolerance)
@@ -263,7 +266,8 @@ internal sealed class BandedLinear
     /// <summary>
     /// After <see cref="SolveByQr"/>: the entries S(i, j) of S = (R'R)^-1 = (D A D)^-2 for |i - j| up to
     /// <paramref name="band"/> (at least kl + ku), row i at i * (2 band + 1) + (j - i + band), by the recurrence of
-    /// Takahashi, Fagan and Chin (1973) on R: R S = R^-T, whose upper triangle is diagonal, read from the last row up.
+    /// Takahashi, Fagan and Chen ("Formation of a sparse bus impedance matrix and its application to short circuit
+    /// study", 1973) on R: R S = R^-T, whose upper triangle is diagonal, read from the last row up.
     /// Cost O(n band (kl + ku)), linear in n, though the inverse itself is full.
     /// </summary>
     public void NormalInverseBand(double[] sigma, int band)

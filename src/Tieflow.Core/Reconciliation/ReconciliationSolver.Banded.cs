@@ -10,9 +10,11 @@ namespace Tieflow.Core.Reconciliation;
 /// elimination with partial pivoting on the band (<see cref="BandedLinear"/>) costs time linear in the stage count,
 /// where the projection costs the square of it and more. In exact arithmetic the step is the projection's step
 /// whenever the unmeasured columns have full rank and the projected balances are independent; the banded step is
-/// used only for layouts where a dense factorisation has shown that, and every solve ends with one dense
-/// factorisation (for the classification and the covariance, which it re-checks): when it finds the layout rank
-/// deficient after all, the solve is repeated on the dense path.
+/// used only for layouts where a dense factorisation has shown that (the first solve of a layout starts dense). A
+/// solve whose steps were banded closes on the band as well (the classification and covariance by QR and selected
+/// inversion, ReconciliationSolver.BandedCovariance.cs); only when that finds the band near singular does it close with
+/// one dense factorisation, and when that finds the layout rank deficient after all, the solve is repeated on the
+/// dense path.
 /// </content>
 internal sealed partial class ReconciliationSolver
 {
