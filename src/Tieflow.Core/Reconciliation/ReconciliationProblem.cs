@@ -131,6 +131,9 @@ public sealed class ReconciliationProblem
     /// <summary>Whether any layout prepared so far takes its steps on the band (for the tests).</summary>
     internal bool UsesBand => _layouts.Values.Any(l => l.UsesBand);
 
+    /// <summary>Whether any layout closed its last solve on the band (classification and covariance from the band; for the tests).</summary>
+    internal bool ClosedOnBand => _layouts.Values.Any(l => l.ClosedOnBand);
+
     /// <summary>
     /// Prepares a reconciliation. The measurements fix which quantities are measured and their standard deviations;
     /// their values are the default readings of <see cref="Reconcile()"/>.
@@ -370,13 +373,26 @@ public sealed class ReconciliationProblem
     // The primal active-set method: the working set holds quantities at a bound (0 for a flow or a fraction, 1 for a
     // fraction). Each pass solves the reconciliation with the working set held; a solution outside the bounds adds its
     // blocking bound, a solution inside adds nothing and releases the bound with the most negative multiplier.
+    // The balances are bilinear, so a multiplier promises descent only near the solution it belongs to: releasing a
+    // bound can lead, through the bounds the far solution then crosses, to a solution inside the bounds with a larger
+    // sum of squares than the one the release left (for a train with unmeasured fractions: release a fraction held at
+    // zero, a flow goes to -178 without it, holding that flow at zero then needs the fraction held again, and the
+    // passes cycle through the same working sets). The passes therefore keep the best solution inside the bounds: one
+    // with a larger sum of squares returns to it and keeps the bound whose release led away; and a release that would
+    // return to a working set already solved is not taken. The passes cannot cycle.
     private ReconciliationResult SolveWithinBounds(double flowScale)
     {
         var working = new SortedDictionary<int, double>();
+        var visited = new HashSet<string>(StringComparer.Ordinal);
+        var kept = new HashSet<int>();
+        SortedDictionary<int, double>? bestWorking = null;
+        double bestStatistic = double.PositiveInfinity;
+        int releasedFromBest = -1;
         double[]? inside = null;
         int limit = (2 * _n) + 10;
         for (int pass = 0; pass < limit; pass++)
         {
+            visited.Add(WorkingSetKey(working, -1));
             ReconciliationSolver solver = LayoutFor(working, out List<int> measured, out List<int> held);
             for (int c = 0; c < measured.Count; c++)
             {
@@ -440,9 +456,26 @@ public sealed class ReconciliationProblem
                 continue;
             }
 
-            // Inside the bounds: release the bound whose multiplier says the optimum lies inside.
+            // Inside the bounds: back to the best solution when the last release from there did not lead below it;
+            // else release the bound whose multiplier says the optimum lies inside.
             double statistic = Statistic(solver, working);
             double tolerance = 1e-8 * Math.Max(1, statistic);
+            if (bestWorking is not null && releasedFromBest >= 0 && statistic > bestStatistic + (1e-8 * Math.Max(1, bestStatistic)))
+            {
+                kept.Add(releasedFromBest);
+                releasedFromBest = -1;
+                working = new SortedDictionary<int, double>(bestWorking);
+                inside = null;
+                continue;
+            }
+
+            bool atBest = statistic <= bestStatistic;
+            if (atBest)
+            {
+                bestStatistic = statistic;
+                bestWorking = new SortedDictionary<int, double>(working);
+            }
+
             int release = -1;
             double strongest = tolerance;
             for (int h = 0; h < held.Count; h++)
@@ -462,7 +495,7 @@ public sealed class ReconciliationProblem
 
                 // At a lower bound the optimum lies inside when increasing the quantity lowers the objective.
                 double inward = (bound == 0 ? -lambda : lambda) * (IsFlowVariable(v) ? flowScale : 1);
-                if (inward > strongest)
+                if (inward > strongest && !kept.Contains(v) && !visited.Contains(WorkingSetKey(working, v)))
                 {
                     strongest = inward;
                     release = v;
@@ -478,6 +511,7 @@ public sealed class ReconciliationProblem
                 }
 
                 working.Remove(release);
+                releasedFromBest = atBest ? release : -1;
                 continue;
             }
 
@@ -489,6 +523,10 @@ public sealed class ReconciliationProblem
             $"The reconciliation within the bounds (flows at or above zero, fractions in [0, 1]) did not settle on a set of active bounds after {limit} passes. " +
             "Check the measurements for values far from any consistent state.");
     }
+
+    // The working set without quantity <paramref name="except"/> (-1: all of it), as text.
+    private static string WorkingSetKey(SortedDictionary<int, double> working, int except) =>
+        string.Join(',', working.Keys.Where(v => v != except));
 
     private bool IsFlowVariable(int variable) => variable % (_network.Components.Count + 1) == 0;
 

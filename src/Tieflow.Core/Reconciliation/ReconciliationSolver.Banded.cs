@@ -10,9 +10,11 @@ namespace Tieflow.Core.Reconciliation;
 /// elimination with partial pivoting on the band (<see cref="BandedLinear"/>) costs time linear in the stage count,
 /// where the projection costs the square of it and more. In exact arithmetic the step is the projection's step
 /// whenever the unmeasured columns have full rank and the projected balances are independent; the banded step is
-/// used only for layouts where a dense factorisation has shown that, and every solve ends with one dense
-/// factorisation (for the classification and the covariance, which it re-checks): when it finds the layout rank
-/// deficient after all, the solve is repeated on the dense path.
+/// used only for layouts where a dense factorisation has shown that (the first solve of a layout starts dense). A
+/// solve whose steps were banded closes on the band as well (the classification and covariance by QR and selected
+/// inversion, ReconciliationSolver.BandedCovariance.cs); only when that finds the band near singular does it close with
+/// one dense factorisation, and when that finds the layout rank deficient after all, the solve is repeated on the
+/// dense path.
 /// </content>
 internal sealed partial class ReconciliationSolver
 {
@@ -29,6 +31,9 @@ internal sealed partial class ReconciliationSolver
     // Whether a dense factorisation of this layout has found full column rank of the unmeasured columns and
     // independent projected balances (the banded step's condition).
     private bool _bandTrusted;
+
+    // Whether every nonzero of _ax and _au lies in the pattern (they hold a Jacobian, not a dense factorisation's blocks).
+    private bool _jacobianInPattern;
 
     /// <summary>Whether this layout solves its steps on the band (for the tests and the benchmarks).</summary>
     internal bool UsesBand => _order is not null;
@@ -98,10 +103,12 @@ internal sealed partial class ReconciliationSolver
             width = Math.Max(width, Math.Abs(order[a] - order[_nx + _nu + rows[e]]));
         }
 
-        // Elimination on the band costs about 3 n w^2, the projection about m nu (nu + nx) per step.
+        // Elimination on the band costs about 3 n w^2, the projection about m nu (nu + nx) per step; the band's close
+        // (QR and selected inverse, a few eliminations' worth) against the dense one (its cube) tips the balance to
+        // the band from about 12 stages of a train.
         double banded = 3.0 * n * width * width;
         double dense = (double)_m * _nu * (_nu + _nx);
-        if (!(banded < 0.25 * dense))
+        if (!(banded < dense))
         {
             return;
         }
@@ -112,6 +119,7 @@ internal sealed partial class ReconciliationSolver
         _band = new BandedLinear(n, width, width);
         _bandRhs = new double[n];
         _zPrevious = new double[_n];
+        PrepareBandedCovariance(width);
     }
 
     // Positions of the nodes of a graph in reverse Cuthill-McKee order, each component from a node of least degree.
@@ -157,6 +165,19 @@ internal sealed partial class ReconciliationSolver
     private bool BandedStep(out double step)
     {
         step = double.NaN;
+        AssembleBand();
+        if (!_band!.Solve(_bandRhs))
+        {
+            return false;
+        }
+
+        step = ApplyBandedStep();
+        return true;
+    }
+
+    // The optimality conditions linearised at the current point, into the band and its right-hand side.
+    private void AssembleBand()
+    {
         int m = _m;
         int[] order = _order!;
         BandedLinear band = _band!;
@@ -204,12 +225,13 @@ internal sealed partial class ReconciliationSolver
         {
             rhs[order[_nx + _nu + i]] = -_f[i];
         }
+    }
 
-        if (!band.Solve(rhs))
-        {
-            return false;
-        }
-
+    // Takes the step solved on the band; returns the largest relative change.
+    private double ApplyBandedStep()
+    {
+        int[] order = _order!;
+        double[] rhs = _bandRhs;
         double flowScale = StepFlowScale();
         double largest = 0;
         for (int k = 0; k < _nx; k++)
@@ -235,8 +257,7 @@ internal sealed partial class ReconciliationSolver
 
         UpdateDependents();
         _balancesCurrent = false;
-        step = largest;
-        return true;
+        return largest;
     }
 
     // After a dense factorisation: whether the banded step's condition holds for this layout.

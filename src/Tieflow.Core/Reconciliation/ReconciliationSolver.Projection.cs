@@ -44,8 +44,28 @@ internal sealed partial class ReconciliationSolver
 
     private void FillJacobian()
     {
-        Array.Clear(_ax);
-        Array.Clear(_au);
+        // The Jacobian's nonzeros lie in the pattern of the band, until a dense factorisation overwrites the blocks.
+        if (_jacobianInPattern)
+        {
+            for (int e = 0; e < _patternRow.Length; e++)
+            {
+                int c = _patternColumn[e];
+                if (c >= 0)
+                {
+                    _ax[(c * _m) + _patternRow[e]] = 0;
+                }
+                else
+                {
+                    _au[(~c * _m) + _patternRow[e]] = 0;
+                }
+            }
+        }
+        else
+        {
+            Array.Clear(_ax);
+            Array.Clear(_au);
+        }
+
         Array.Clear(_ah);
         Array.Clear(_maskAx);
         Array.Clear(_maskAu);
@@ -85,12 +105,15 @@ internal sealed partial class ReconciliationSolver
                 }
             }
         }
+
+        _jacobianInPattern = _order is not null;
     }
 
     // Linearises at the current point, projects the unmeasured quantities out and factorises the projected system.
     private void Factorize()
     {
         FillJacobian();
+        _jacobianInPattern = false;
         FactorUnmeasured();
         ProjectMeasured();
         FactorProjected();

@@ -53,9 +53,20 @@ internal sealed partial class ReconciliationSolver
     /// </summary>
     public double HeldMultiplier(int h)
     {
-        // With L = J + mu' (Q2' f + B dx), dL/db = mu' Q2' a_b over the projected rows the Cholesky kept.
+        // With L = J + mu' (Q2' f + B dx), dL/db = mu' Q2' a_b over the projected rows the Cholesky kept; closed on the
+        // band, L = J + lambda' (f + A dz) and dL/db = lambda' a_b with a_b not projected.
         ReadOnlySpan<double> a = _ah.AsSpan(h * _m, _m);
         double sum = 0;
+        if (_closedOnBand)
+        {
+            for (int i = 0; i < _m; i++)
+            {
+                sum += _lambda[i] * a[i];
+            }
+
+            return sum;
+        }
+
         for (int i = 0; i < _q; i++)
         {
             sum += _mu[i] * a[_rank + _gsel[i]];

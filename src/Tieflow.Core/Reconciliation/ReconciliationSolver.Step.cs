@@ -55,6 +55,7 @@ internal sealed partial class ReconciliationSolver
     {
         double tolerance = _options.Tolerance;
         redo = false;
+        _closedOnBand = false;
         Initialize();
         step = double.PositiveInfinity;
         residual = double.PositiveInfinity;
@@ -100,8 +101,17 @@ internal sealed partial class ReconciliationSolver
             {
                 if (banded)
                 {
-                    // The classification, covariance and multipliers come from the dense factorisation at the point
-                    // of the last step, which is taken again from there: the dense path's answer to roundoff.
+                    // The classification, covariance and multipliers come from a factorisation at the point of the last
+                    // step, which is taken again from there: QR on the band, or the dense factorisation when the band
+                    // is near singular (the dense path's answer to roundoff either way).
+                    _zPrevious.CopyTo(_z, 0);
+                    _balancesCurrent = false;
+                    if (BandedClose(out step))
+                    {
+                        residual = RelativeResidual();
+                        return SolverOutcome.Converged;
+                    }
+
                     _zPrevious.CopyTo(_z, 0);
                     _balancesCurrent = false;
                     Factorize();

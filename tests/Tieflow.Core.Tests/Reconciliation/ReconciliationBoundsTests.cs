@@ -155,4 +155,47 @@ public sealed class ReconciliationBoundsTests
         Assert.True(Math.Abs(result.Flow("S2").Value + result.Flow("S3").Value - TestNetworks.HeatExchangerReadings[0]) < 1e-9);
         Assert.All(result.Estimates, e => Assert.True(double.IsFinite(e.Value) && double.IsFinite(e.Sigma), $"{e.Key}"));
     }
+    [Theory]
+    [InlineData(false)]
+    [InlineData(true)]
+    public void Reconcile_TrainWithHalfItsFractionsUnmeasured_SettlesOnItsActiveBounds(bool denseReference)
+    {
+        // A 24-stage train (invented state of TestNetworks.TrainState, seeded noise) measured as usual, but with about
+        // half of the fractions of that set not measured and some 15 % of the rest measured. The passes used to cycle:
+        // from the solution inside the bounds with R22 c and E20 b held at zero (chi-square 13.3), releasing E20 b led to
+        // R19 at -178, holding R19 at zero then needed E20 b held again (chi-square 19.8, then 39340 with R5 c held
+        // too), and the releases led back to the start, until the limit of 410 passes (698 passes and about two
+        // minutes for a 42-stage train).
+        var random = new Random(8);
+        const int Stages = 24;
+        ProcessNetwork train = TestNetworks.Train(Stages);
+        double[] truth = TestNetworks.TrainState(Stages, 80 + (60 * random.NextDouble()), 120 + (80 * random.NextDouble()));
+        var measurements = new List<Measurement>();
+        for (int v = 0; v < train.QuantityCount; v++)
+        {
+            QuantityKey key = train.KeyAt(v);
+            bool usual = TestNetworks.IsMeasuredInTrain(key, Stages) && !(key.Quantity == MeasuredQuantity.Fraction && random.NextDouble() < 0.5);
+            if (!usual && random.NextDouble() >= 0.15)
+            {
+                continue;
+            }
+
+            double sigma = TestNetworks.TrainSigma(key, truth[v]);
+            double value = truth[v] + (sigma * TestNetworks.Gaussian(random));
+            measurements.Add(new Measurement(key, key.Quantity == MeasuredQuantity.Fraction ? Math.Clamp(value, 0, 1) : value, sigma));
+        }
+
+        ReconciliationProblem problem = ReconciliationProblem.Create(train, measurements, new ReconciliationOptions { DenseReference = denseReference });
+        Assert.True(problem.TryReconcile([.. measurements.Select(m => m.Value)], out ReconciliationResult result), result.Message);
+        foreach (QuantityEstimate e in result.Estimates.Where(e => e.HasValue))
+        {
+            Assert.True(e.Value >= -1e-9 && (e.Key.Quantity == MeasuredQuantity.Flow || e.Value <= 1 + 1e-9), $"{e.Key} = {e.Value}");
+        }
+
+        Assert.True(TestNetworks.WorstRelativeResidualOfObservable(result) <= 1e-8);
+
+        // Readings within their sigmas of a consistent state: the solution fits them (the far solution had a
+        // chi-square in the tens of thousands).
+        Assert.True(result.GlobalTest.Statistic < 3 * Math.Max(1, result.GlobalTest.DegreesOfFreedom), $"chi-square {result.GlobalTest.Statistic} with {result.GlobalTest.DegreesOfFreedom} degrees of freedom");
+    }
 }
