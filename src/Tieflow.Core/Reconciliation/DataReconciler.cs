@@ -12,28 +12,6 @@ public static class DataReconciler
     /// <param name="options">Settings; the defaults when <see langword="null"/>.</param>
     /// <exception cref="ArgumentException">A measurement is invalid; the message names it.</exception>
     /// <exception cref="ReconciliationException">The bilinear iteration did not converge.</exception>
-    public static ReconciliationReport Reconcile(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options = null)
-    {
-        ReconciliationResult initial = ReconciliationProblem.Create(network, measurements, options).Reconcile();
-        var suspects = new List<QuantityKey>();
-        var remaining = new List<Measurement>(measurements);
-        ReconciliationResult current = initial;
-        while (!current.GlobalTest.Passed && current.MeasurementTests.Count > 0)
-        {
-            MeasurementTest worst = current.MeasurementTests[0];
-            foreach (MeasurementTest t in current.MeasurementTests)
-            {
-                if (Math.Abs(t.Normalized) > Math.Abs(worst.Normalized))
-                {
-                    worst = t;
-                }
-            }
-
-            suspects.Add(worst.Key);
-            remaining.RemoveAll(m => m.Key == worst.Key);
-            current = ReconciliationProblem.Create(network, remaining, options).Reconcile();
-        }
-
-        return new ReconciliationReport(initial, current, suspects);
-    }
+    public static ReconciliationReport Reconcile(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options = null) =>
+        new SerialEliminationReconciler(network, options).Reconcile(measurements);
 }
