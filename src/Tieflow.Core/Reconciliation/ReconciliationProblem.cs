@@ -55,6 +55,7 @@ public sealed class ReconciliationProblem
     private readonly MeasurementRole[] _roles;
     private readonly Dictionary<string, ReconciliationSolver> _layouts = new(StringComparer.Ordinal);
     private readonly Dictionary<int, double> _chiSquareCritical = [];
+    private readonly Dictionary<int, double> _lastWorking = [];
     private readonly Dictionary<int, double> _sidakCritical = [];
     private readonly char[] _layoutKey;
     private readonly double[] _engineReadings;
@@ -295,15 +296,28 @@ public sealed class ReconciliationProblem
             _gauged = !(_isFlow[i] && _roles[i] != MeasurementRole.NoInformation);
         }
 
-        return SolveWithinBounds(flowScale);
+        if (_lastWorking.Count > 0)
+        {
+            // Should the last solution's bounds lead nowhere (a failure an empty start might not meet), start empty.
+            ReconciliationResult warm = SolveWithinBounds(flowScale, warm: true);
+            if (warm.Succeeded)
+            {
+                return warm;
+            }
+        }
+
+        return SolveWithinBounds(flowScale, warm: false);
     }
 
     // The primal active-set method: the working set holds quantities at a bound (0 for a flow or a fraction, 1 for a
     // fraction). Each pass solves the reconciliation with the working set held; a solution outside the bounds adds its
     // blocking bound, a solution inside adds nothing and releases the bound with the most negative multiplier.
-    private ReconciliationResult SolveWithinBounds(double flowScale)
+    private ReconciliationResult SolveWithinBounds(double flowScale, bool warm)
     {
-        var working = new SortedDictionary<int, double>();
+        // The working set starts as the last solution's: readings of the same instruments window after window mostly
+        // leave the same bounds active, and the passes that would find them again are saved. A bound held wrongly is
+        // released by its multiplier, so the answer is the one from an empty start.
+        var working = warm ? new SortedDictionary<int, double>(_lastWorking) : new SortedDictionary<int, double>();
         double[]? inside = null;
         int limit = (2 * _n) + 10;
         for (int pass = 0; pass < limit; pass++)
@@ -409,6 +423,12 @@ public sealed class ReconciliationProblem
 
                 working.Remove(release);
                 continue;
+            }
+
+            _lastWorking.Clear();
+            foreach ((int v, double b) in working)
+            {
+                _lastWorking[v] = b;
             }
 
             return BuildResult(solver, working, iterations, residual);

@@ -9,7 +9,7 @@ public sealed class SerialEliminationReconcilerTests
     {
         // The same quantities window after window, in a shuffled order, some with a gross error so that the serial
         // elimination runs: the kept problems give the answers of problems prepared afresh (DataReconciler's way
-        // before problems were kept) to 1e-9 relative (the kept layouts take banded steps, the fresh ones dense
+        // before problems were kept, each from an empty working set of bounds) to 1e-9 relative (the kept layouts take banded steps, the fresh ones dense
         // steps: roundoff and the convergence tolerance of the bilinear iteration, not method).
         ProcessNetwork network = TestNetworks.SixStageTrain();
         double[] truth = TestNetworks.SixStageTrainState();
@@ -26,12 +26,16 @@ public sealed class SerialEliminationReconcilerTests
                 measurements[biased] = m with { Value = value };
             }
 
+            // A fresh solvent's solute stated as about nil, as the analysis states such a fraction.
+            int known = measurements.FindIndex(m => m.Key == QuantityKey.FractionOf("solvent", "a"));
+            measurements[known] = measurements[known] with { Value = Math.Max(0, 2e-4 * TestNetworks.Gaussian(random)), Sigma = 2e-4 };
             Measurement[] shuffled = [.. measurements.OrderBy(_ => random.Next())];
             ReconciliationReport expected = FreshEachTime(network, shuffled);
             ReconciliationReport actual = kept.Reconcile(shuffled);
             Assert.Equal(expected.Suspects, actual.Suspects);
             AssertSame(expected.Initial, actual.Initial);
             AssertSame(expected.Final, actual.Final);
+            Assert.Equal(expected.Final.ActiveBounds, actual.Final.ActiveBounds);
         }
 
         Assert.InRange(kept.PreparedCount, 1, 32);
