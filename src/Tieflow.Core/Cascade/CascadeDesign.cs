@@ -81,6 +81,25 @@ public sealed class CascadeDesign
         return new DesignResult(whole, fractional, flow, minimum.MinimumSolventFlow, cascade);
     }
 
+    /// <summary>
+    /// The fractional stage count of <see cref="FindStages(MaterialStream, MaterialStream, DesignTarget, IReadOnlyList{double})"/>
+    /// alone, without the minimum solvent flow and the cascade of the whole number of stages (the same number).
+    /// </summary>
+    /// <inheritdoc cref="FindStages(MaterialStream, MaterialStream, DesignTarget, IReadOnlyList{double})"/>
+    internal double FindFractionalStages(MaterialStream feed, MaterialStream solvent, DesignTarget target, IReadOnlyList<double> efficiencies)
+    {
+        CheckDesignInputs(feed, solvent, efficiencies, target);
+        Ternary zS = solvent.Composition;
+        double flow = solvent.Flow;
+        if (!Feasible(feed, zS, flow, target, out _, out _))
+        {
+            // The full design states why.
+            return FindStages(feed, solvent, target, efficiencies).FractionalStages;
+        }
+
+        return CountStages(feed, zS, flow, RaffinateTarget(feed, zS, flow, target), efficiencies, null);
+    }
+
     /// <summary>Stages for a target with the same efficiency on every stage.</summary>
     /// <inheritdoc cref="FindStages(MaterialStream, MaterialStream, DesignTarget, IReadOnlyList{double})"/>
     public DesignResult FindStages(MaterialStream feed, MaterialStream solvent, DesignTarget target, double efficiency = 1) =>

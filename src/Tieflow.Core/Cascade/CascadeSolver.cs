@@ -148,6 +148,32 @@ public sealed class CascadeSolver
         _ => throw new ArgumentOutOfRangeException(nameof(arrangement), arrangement, "Expected countercurrent or crosscurrent."),
     };
 
+    /// <summary>
+    /// Solves the arrangement given; a counter-current cascade from the profile of <paramref name="near"/> (a solution of
+    /// the same cascade for nearby inputs) when given: a few Newton steps instead of a start from the split of feed
+    /// plus solvent, and the same answer within <see cref="CascadeSolverOptions.Tolerance"/>.
+    /// </summary>
+    internal CascadeResult Solve(CascadeArrangement arrangement, MaterialStream feed, MaterialStream solvent, IReadOnlyList<double> efficiencies, CascadeResult? near) =>
+        arrangement == CascadeArrangement.Countercurrent && near is { Arrangement: CascadeArrangement.Countercurrent } && near.Stages.Count == efficiencies.Count
+            ? SolveCountercurrent(feed, solvent, efficiencies, StartProfile(near))
+            : Solve(arrangement, feed, solvent, efficiencies);
+
+    /// <summary>A counter-current cascade's profile as a start (x, y, raffinate flow, extract flow per stage).</summary>
+    internal static double[] StartProfile(CascadeResult result)
+    {
+        var start = new double[4 * result.Stages.Count];
+        for (int k = 0; k < result.Stages.Count; k++)
+        {
+            StageResult s = result.Stages[k];
+            start[4 * k] = s.Raffinate.Composition.Solute;
+            start[(4 * k) + 1] = s.Extract.Composition.Solute;
+            start[(4 * k) + 2] = s.Raffinate.Flow;
+            start[(4 * k) + 3] = s.Extract.Flow;
+        }
+
+        return start;
+    }
+
     internal static double Recovery(MaterialStream feed, MaterialStream raffinate)
     {
         double feedSolute = feed.ComponentFlows.Solute;

@@ -739,15 +739,19 @@ public sealed class UnitAnalyzer
     {
         var free = Enumerable.Range(0, _unit.Stages).Where(k => efficiencies[k] is null).ToArray();
         var solver = new CascadeSolver(_unit.Equilibrium, temperature);
+        double[] eff = new double[_unit.Stages];
+        CascadeResult? last = null;
         double Raffinate(double e)
         {
-            double[] eff = new double[_unit.Stages];
             for (int k = 0; k < _unit.Stages; k++)
             {
                 eff[k] = Math.Clamp(efficiencies[k]?.Value ?? e, 0.02, 1);
             }
 
-            return solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
+            // Every solve after the first starts from the profile of the one before (the bracket's ends, then Brent's
+            // steps, which close in): the same answers within the solver's tolerance.
+            last = solver.Solve(_unit.Arrangement, feed, solvent, eff, last);
+            return last.Raffinate.Composition.Solute;
         }
 
         try
@@ -792,7 +796,7 @@ public sealed class UnitAnalyzer
                 double modelled = Raffinate(e);
                 if (modelled > 0 && modelled < feed.Composition.Solute)
                 {
-                    theoretical = design.FindStages(feed, solvent, DesignTarget.RaffinateFraction(modelled)).FractionalStages;
+                    theoretical = design.FindFractionalStages(feed, solvent, DesignTarget.RaffinateFraction(modelled), [1.0]);
                 }
             }
             catch (Exception ex) when (ex is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)
@@ -943,14 +947,18 @@ public sealed class UnitAnalyzer
         {
             var solver = new CascadeSolver(_unit.Equilibrium, temperature);
             double[] eff = ModelEfficiencies();
-            double x = solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
+            CascadeResult central = solver.Solve(_unit.Arrangement, feed, solvent, eff);
+            double x = central.Raffinate.Composition.Solute;
+
+            // Each efficiency raised by its sigma, the cascade solved from the central profile (a few Newton steps, the
+            // same answer within the solver's tolerance); an efficiency already at 1 leaves the central answer.
             double variance = 0;
             for (int k = 0; k < eff.Length; k++)
             {
                 double s = _lastSigma[k] > 0 ? _lastSigma[k] : 0.02;
                 double saved = eff[k];
                 eff[k] = Math.Clamp(saved + s, 0.02, 1);
-                double up = solver.Solve(_unit.Arrangement, feed, solvent, eff).Raffinate.Composition.Solute;
+                double up = eff[k] == saved ? x : solver.Solve(_unit.Arrangement, feed, solvent, eff, central).Raffinate.Composition.Solute;
                 eff[k] = saved;
                 variance += (up - x) * (up - x);
             }

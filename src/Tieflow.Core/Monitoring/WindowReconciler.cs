@@ -23,6 +23,9 @@ public sealed class WindowReconciler
     private readonly UnitModel _model;
     private readonly WindowReconcilerSettings _settings;
 
+    // The window's layouts (which quantities are measured, which were eliminated) recur: prepared once, kept.
+    private readonly SerialEliminationReconciler _reconciler;
+
     // The nominal cascade starts the solute of a saturated stream that no analyzer measures; solved once per unit.
     private readonly CascadeResult _nominal;
 
@@ -33,6 +36,7 @@ public sealed class WindowReconciler
     {
         _model = model ?? throw new ArgumentNullException(nameof(model));
         _settings = settings ?? new WindowReconcilerSettings();
+        _reconciler = new SerialEliminationReconciler(model.Network, new ReconciliationOptions { Significance = _settings.Significance });
         UnitDescription unit = model.Unit;
         _nominal = new CascadeSolver(unit.Equilibrium, unit.Nominal.TemperatureKelvin).Solve(unit.Arrangement, unit.Nominal.Feed, unit.Nominal.Solvent, unit.Nominal.Efficiencies);
     }
@@ -132,7 +136,7 @@ public sealed class WindowReconciler
                 }
             }
 
-            report = DataReconciler.Reconcile(_model.Network, all, new ReconciliationOptions { Significance = _settings.Significance }, accumulation);
+            report = _reconciler.Reconcile(all, accumulation);
             double moved = 0;
             foreach ((string id, _) in saturated)
             {

@@ -23,28 +23,6 @@ public static class DataReconciler
     /// <param name="accumulation">Known rates of accumulation; <see langword="null"/> for steady state.</param>
     /// <exception cref="ArgumentException">A measurement or an accumulation is invalid; the message names it.</exception>
     /// <exception cref="ReconciliationException">The bilinear iteration did not converge.</exception>
-    public static ReconciliationReport Reconcile(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options, IReadOnlyList<NodeAccumulation>? accumulation)
-    {
-        ReconciliationResult initial = ReconciliationProblem.Create(network, measurements, options, accumulation).Reconcile();
-        var suspects = new List<QuantityKey>();
-        var remaining = new List<Measurement>(measurements);
-        ReconciliationResult current = initial;
-        while (!current.GlobalTest.Passed && current.MeasurementTests.Count > 0)
-        {
-            MeasurementTest worst = current.MeasurementTests[0];
-            foreach (MeasurementTest t in current.MeasurementTests)
-            {
-                if (Math.Abs(t.Normalized) > Math.Abs(worst.Normalized))
-                {
-                    worst = t;
-                }
-            }
-
-            suspects.Add(worst.Key);
-            remaining.RemoveAll(m => m.Key == worst.Key);
-            current = ReconciliationProblem.Create(network, remaining, options, accumulation).Reconcile();
-        }
-
-        return new ReconciliationReport(initial, current, suspects);
-    }
+    public static ReconciliationReport Reconcile(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions? options, IReadOnlyList<NodeAccumulation>? accumulation) =>
+        new SerialEliminationReconciler(network, options).Reconcile(measurements, accumulation);
 }

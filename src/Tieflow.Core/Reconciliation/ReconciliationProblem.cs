@@ -55,6 +55,7 @@ public sealed class ReconciliationProblem
     private readonly MeasurementRole[] _roles;
     private readonly Dictionary<string, ReconciliationSolver> _layouts = new(StringComparer.Ordinal);
     private readonly Dictionary<int, double> _chiSquareCritical = [];
+    private readonly Dictionary<int, double> _lastWorking = [];
     private readonly Dictionary<int, double> _sidakCritical = [];
     private readonly char[] _layoutKey;
     private readonly double[] _engineReadings;
@@ -66,8 +67,9 @@ public sealed class ReconciliationProblem
     private List<int>? _plainHeld;
     private readonly MeasurementRole[] _plainRoles;
 
-    // Known accumulation per balance row (node x component), or null for steady state.
-    private readonly double[]? _accumulation;
+    // Known accumulation per balance row (node x component), or null for steady state. Replaced, never changed in
+    // place: the solver sees a new array as new balances.
+    private double[]? _accumulation;
 
     private ReconciliationProblem(ProcessNetwork network, IReadOnlyList<Measurement> measurements, ReconciliationOptions options, double[]? accumulation)
     {
@@ -262,6 +264,15 @@ public sealed class ReconciliationProblem
         return rows;
     }
 
+    /// <summary>
+    /// Replaces the known accumulation of the nodes (see <see cref="Create(ProcessNetwork, IReadOnlyList{Measurement}, ReconciliationOptions?, IReadOnlyList{NodeAccumulation}?)"/>)
+    /// for the reconciliations that follow: a monitor whose hold-ups settle at another rate in every window keeps its
+    /// prepared problem.
+    /// </summary>
+    /// <param name="accumulation">At most one rate per node and component; <see langword="null"/> or empty for steady state.</param>
+    /// <exception cref="ArgumentException">An accumulation names an unknown node or component, repeats one, or is not finite.</exception>
+    public void SetAccumulation(IReadOnlyList<NodeAccumulation>? accumulation) => _accumulation = AccumulationRows(_network, accumulation);
+
     /// <summary>Reconciles the readings given at preparation.</summary>
     /// <exception cref="ReconciliationException">The data could not be reconciled (see <see cref="ReconciliationStatus"/>).</exception>
     public ReconciliationResult Reconcile() => Reconcile(_initialValues);
@@ -367,7 +378,17 @@ public sealed class ReconciliationProblem
             _gauged = !(_isFlow[i] && _roles[i] != MeasurementRole.NoInformation);
         }
 
-        return SolveWithinBounds(flowScale);
+        if (_lastWorking.Count > 0)
+        {
+            // Should the last solution's bounds lead nowhere (a failure an empty start might not meet), start empty.
+            ReconciliationResult warm = SolveWithinBounds(flowScale, warm: true);
+            if (warm.Succeeded)
+            {
+                return warm;
+            }
+        }
+
+        return SolveWithinBounds(flowScale, warm: false);
     }
 
     // The primal active-set method: the working set holds quantities at a bound (0 for a flow or a fraction, 1 for a
@@ -380,9 +401,12 @@ public sealed class ReconciliationProblem
     // passes cycle through the same working sets). The passes therefore keep the best solution inside the bounds: one
     // with a larger sum of squares returns to it and keeps the bound whose release led away; and a release that would
     // return to a working set already solved is not taken. The passes cannot cycle.
-    private ReconciliationResult SolveWithinBounds(double flowScale)
+    // The working set starts as the last solution's: readings of the same instruments window after window mostly
+    // leave the same bounds active, and the passes that would find them again are saved. A bound held wrongly is
+    // released by its multiplier, so the answer is the one from an empty start.
+    private ReconciliationResult SolveWithinBounds(double flowScale, bool warm)
     {
-        var working = new SortedDictionary<int, double>();
+        var working = warm ? new SortedDictionary<int, double>(_lastWorking) : new SortedDictionary<int, double>();
         var visited = new HashSet<string>(StringComparer.Ordinal);
         var kept = new HashSet<int>();
         SortedDictionary<int, double>? bestWorking = null;
@@ -513,6 +537,12 @@ public sealed class ReconciliationProblem
                 working.Remove(release);
                 releasedFromBest = atBest ? release : -1;
                 continue;
+            }
+
+            _lastWorking.Clear();
+            foreach ((int v, double b) in working)
+            {
+                _lastWorking[v] = b;
             }
 
             return BuildResult(solver, working, iterations, residual);

@@ -75,6 +75,59 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
     }
 
     /// <summary>Every instrument of the unit reading the solved cascade exactly, with the sigma of a 30-minute average.</summary>
+    [Fact]
+    public void OneReconcilerOverManyWindows_EqualsANewReconcilerPerWindow()
+    {
+        // A kept reconciler keeps its prepared problems and starts each from the bounds its last solution held (the
+        // fresh solvent's and feed's nil fractions reach zero in about half the windows); a new reconciler per window
+        // is the way before: the same estimates and efficiencies to 1e-8.
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
+        var model = new UnitModel(unit);
+        var kept = new WindowReconciler(model);
+        var random = new Random(8);
+        int atBound = 0;
+        for (int window = 0; window < 30; window++)
+        {
+            WindowMeasurement[] readings = [.. Readings(model, truth).Select(m => m with
+            {
+                Value = m.Key.Quantity == MeasuredQuantity.Flow ? m.Value + (m.Sigma * Gaussian(random)) : Math.Clamp(m.Value + (m.Sigma * Gaussian(random)), 0, 1),
+            }).OrderBy(_ => random.Next())];
+            WindowReconciliation expected = new WindowReconciler(model).Reconcile(readings, 298.15);
+            WindowReconciliation actual = kept.Reconcile(readings, 298.15);
+            atBound += expected.Report.Final.ActiveBounds.Count > 0 ? 1 : 0;
+            Assert.Equal(expected.Report.Final.ActiveBounds.Count, actual.Report.Final.ActiveBounds.Count);
+            Assert.Equal(expected.SuspectTags, actual.SuspectTags);
+            for (int v = 0; v < expected.Report.Final.Estimates.Count; v++)
+            {
+                QuantityEstimate e = expected.Report.Final.Estimates[v], a = actual.Report.Final.Estimates[v];
+                Assert.Equal(e.HasValue, a.HasValue);
+                if (e.HasValue)
+                {
+                    double scale = e.Key.Quantity == MeasuredQuantity.Flow ? 1000 : 1;
+                    Assert.Equal(e.Value, a.Value, 1e-8 * scale);
+                    Assert.Equal(e.Sigma, a.Sigma, 1e-8 * scale);
+                }
+            }
+
+            for (int k = 0; k < expected.Efficiencies.Count; k++)
+            {
+                Assert.Equal(expected.Efficiencies[k].Status, actual.Efficiencies[k].Status);
+                if (expected.Efficiencies[k].Status == EfficiencyStatus.Determined)
+                {
+                    Assert.Equal(expected.Efficiencies[k].Value, actual.Efficiencies[k].Value, 1e-8);
+                    Assert.Equal(expected.Efficiencies[k].Sigma, actual.Efficiencies[k].Sigma, 1e-8);
+                }
+            }
+        }
+
+        output.WriteLine($"{atBound} of 30 windows with a bound active");
+        Assert.InRange(atBound, 3, 30);
+    }
+
+    private static double Gaussian(Random random) =>
+        Math.Sqrt(-2 * Math.Log(1 - random.NextDouble())) * Math.Cos(2 * Math.PI * random.NextDouble());
+
     internal static IReadOnlyList<WindowMeasurement> Readings(UnitModel model, CascadeResult truth)
     {
         var list = new List<WindowMeasurement>();
