@@ -5,7 +5,7 @@ using Tieflow.Core.Equilibrium.Activity;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Scenarios;
 
-namespace Tieflow.Simulator.Dynamics;
+namespace Tieflow.Core.Dynamics;
 
 /// <summary>
 /// The dynamic model of one unit: N stages, each a mixer followed by a settler, connected counter-current or
@@ -34,7 +34,7 @@ namespace Tieflow.Simulator.Dynamics;
 /// the stage temperature, to 0.01 K so that a slow ramp does not rebuild it every step. Tie-line and distribution data
 /// hold at one temperature and are always read at the unit's design temperature.</para>
 /// </remarks>
-internal sealed class UnitDynamics
+public sealed class UnitDynamics
 {
     private const double TemperatureQuantumKelvin = 0.01;
     private const int MaxSubsteps = 10_000;
