@@ -23,8 +23,8 @@ namespace Tieflow.Core.Monitoring.Efficiency;
 /// <para>Method: a moving-horizon fit (Rao, Rawlings and Mayne, "Constrained state estimation for nonlinear
 /// discrete-time systems", IEEE Trans. Autom. Control 48(2), 2003), simplified to parameters: the model's state at
 /// the start of the horizon is its own trajectory (advanced window by window with the efficiencies then estimated),
-/// the efficiencies are held constant over the horizon and found by Gauss-Newton with finite-difference sensitivities,
-/// with a weak prior at the last estimate. Residuals are the window means of each stage's raffinate analyzer and of
+/// the efficiencies are held constant over the horizon and moved by one Gauss-Newton step a window from the last
+/// estimate (finite-difference sensitivities), with a weak prior at that estimate. Residuals are the window means of each stage's raffinate analyzer and of
 /// the final extract's analyzer against the model's window means, with the analyzer's sigma and a model sigma added in
 /// quadrature; the covariance is the inverse of the Gauss-Newton matrix, scaled up when the fit is worse than its
 /// sigmas say (chi-square over its degrees of freedom above 1).</para>
@@ -34,7 +34,7 @@ namespace Tieflow.Core.Monitoring.Efficiency;
 public sealed class DynamicEfficiencyTracker
 {
     private const double Step = 0.02;
-    private const int Iterations = 2;
+    private const int Iterations = 1;
     private const double Lowest = 0.05;
 
     private readonly UnitDescription _unit;
@@ -184,18 +184,9 @@ public sealed class DynamicEfficiencyTracker
         double[] trial = new double[_n];
         var g = new double[p * p];
         var b = new double[p];
-        double chi = 0;
-        int residuals = 0;
-        for (int iteration = 0; iteration <= Iterations; iteration++)
+        for (int iteration = 0; iteration < Iterations; iteration++)
         {
             (double[] r0, double[] s0) = Residuals(theta);
-            chi = 0;
-            for (int i = 0; i < r0.Length; i++)
-            {
-                chi += r0[i] * r0[i] / (s0[i] * s0[i]);
-            }
-
-            residuals = r0.Length;
             var jacobian = new double[p][];
             for (int j = 0; j < p; j++)
             {
@@ -242,11 +233,6 @@ public sealed class DynamicEfficiencyTracker
                 return null;
             }
 
-            if (iteration == Iterations)
-            {
-                break;
-            }
-
             DenseCholesky.Solve(g, p, b);
             for (int a = 0; a < p; a++)
             {
@@ -255,6 +241,16 @@ public sealed class DynamicEfficiencyTracker
             }
         }
 
+        // The fit's chi-square at the answer; the sensitivities of the last step stand for those at the answer (the
+        // efficiencies move little within one window, and the model is nearly linear in them over such a step).
+        (double[] rf, double[] sf) = Residuals(theta);
+        double chi = 0;
+        for (int i = 0; i < rf.Length; i++)
+        {
+            chi += rf[i] * rf[i] / (sf[i] * sf[i]);
+        }
+
+        int residuals = rf.Length;
         // Covariance: the inverse of the last Gauss-Newton matrix, column by column from its factor.
         int dof = Math.Max(1, residuals - p);
         double scale = Math.Max(1, chi / dof);
