@@ -66,7 +66,7 @@ public sealed class PlantSimulation
 
     /// <summary>Samples the plant at <see cref="Time"/>, hands everything to the sink, and integrates one step.</summary>
     /// <exception cref="InvalidOperationException">The run is finished.</exception>
-    /// <exception cref="Dynamics.SimulationException">A stage left the two-phase region.</exception>
+    /// <exception cref="Core.Dynamics.SimulationException">A stage left the two-phase region.</exception>
     public void Step(ISimulationSink sink)
     {
         ArgumentNullException.ThrowIfNull(sink);

@@ -2,7 +2,7 @@ using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Scenarios;
-using Tieflow.Simulator.Dynamics;
+using Tieflow.Core.Dynamics;
 using Tieflow.Simulator.Instruments;
 using Tieflow.Simulator.Scenarios;
 using Tieflow.Simulator.Truth;

@@ -4,7 +4,7 @@ using System.Net;
 using Tieflow.Core.Cascade;
 using Tieflow.Core.Equilibrium;
 using Tieflow.Files;
-using Tieflow.Simulator.Dynamics;
+using Tieflow.Core.Dynamics;
 
 namespace Tieflow.Simulator.Cli;
 

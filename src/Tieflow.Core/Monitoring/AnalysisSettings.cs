@@ -63,6 +63,14 @@ public sealed record AnalysisSettings
     /// <summary><c>notDeterminableSigma</c>: a stage efficiency with a larger sigma is "not determinable".</summary>
     public double NotDeterminableSigma { get; init; } = 0.25;
 
+    /// <summary><c>dynamicFitWindows</c>: windows the dynamic model of a mixer-settler train is fitted over between steady
+    /// windows (<see cref="Efficiency.DynamicEfficiencyTracker"/>); 0 judges drift on steady windows only.</summary>
+    public int DynamicFitWindows { get; init; } = 2;
+
+    /// <summary><c>dynamicModelSigma</c>: model error of a window-mean solute fraction in that fit, added to each
+    /// analyzer's sigma in quadrature.</summary>
+    public double DynamicModelSigma { get; init; } = 3e-4;
+
     /// <summary>Steady windows that set the efficiency baselines before drift is judged.</summary>
     public int BaselineWindows { get; init; } = 4;
 
@@ -99,6 +107,8 @@ public sealed record AnalysisSettings
                 "floodLimit" => s with { FloodLimit = (int)Math.Round(v) },
                 "floodWindow" => s with { FloodWindow = TimeSpan.FromSeconds(v) },
                 "notDeterminableSigma" => s with { NotDeterminableSigma = v },
+                "dynamicFitWindows" => s with { DynamicFitWindows = (int)Math.Round(v) },
+                "dynamicModelSigma" => s with { DynamicModelSigma = v },
                 _ => throw new ArgumentException($"Unknown analysis setting '{key}'.", nameof(overrides)),
             };
         }

@@ -48,6 +48,7 @@ public sealed class UnitAnalyzer
     private readonly Dictionary<string, WindowMeasurement> _previousMeans = new(StringComparer.Ordinal);
     private readonly RaffinateTrend _trend;
     private readonly RaffinateTrend _accumulationTrend;
+    private readonly DynamicEfficiencyTracker? _tracker;
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -123,6 +124,12 @@ public sealed class UnitAnalyzer
         _countEfficiency = new int[n];
         _trend = new RaffinateTrend(n, TrendPoints);
         _accumulationTrend = new RaffinateTrend(n, AccumulationTrendPoints);
+
+        // A mixer-settler train's stages have streams of their own to measure: between steady windows the dynamic model
+        // follows their efficiencies. A column's theoretical stages have none.
+        _tracker = unit.Kind == UnitKind.MixerSettler && _settings.DynamicFitWindows > 0
+            ? new DynamicEfficiencyTracker(unit, _settings.WindowLength, _settings.DynamicFitWindows, _settings.DynamicModelSigma)
+            : null;
         foreach (string tag in KeyTags())
         {
             _steadyFilters[tag] = new CaoRhinehartFilter();
@@ -492,7 +499,23 @@ public sealed class UnitAnalyzer
             output.Add(new StageRecord(_unit.Id, end, k + 1, steady ? efficiencies[k] : null, entrainmentByStage[k], stageTemperatures[k]));
         }
 
+        TrackerWindow? trackerWindow = _tracker is null ? null : TrackerWindowOf(feed, solvent, temperature, byTag);
+        if (steady && trackerWindow is not null)
+        {
+            _tracker!.AddSteady(trackerWindow, ModelEfficiencies());
+        }
+
         (double dissolved, double unaccounted, double unaccountedSigma) = SolventAccounting(final, byTag, rec.TotalAccumulation(_model.ComponentIds[2]));
+        bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null));
+        bool analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
+        bool driftSuppressed = keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect;
+        if (!steady && trackerWindow is not null && _tracker!.Add(trackerWindow) is { } fit)
+        {
+            // Between steady windows the drift is judged on the dynamic model's fit over the last windows; the records
+            // keep the steady windows' efficiencies only.
+            UpdateDrift(end, fit.Efficiencies, shared: false, driftSuppressed, output, dynamic: true);
+        }
+
         if (steady)
         {
             UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
@@ -500,9 +523,8 @@ public sealed class UnitAnalyzer
             // Consequential alerts are suppressed (ISA-18.2 design-based suppression): while a solvent loss is raised,
             // the flow meters whose balance it opens are not suspects and the efficiencies it biases do not drift.
             // Likewise while an analyzer is a suspect instrument: the balances every efficiency rests on carry its error.
-            bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null));
             UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, output);
-            bool analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
+            analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
             UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect, output);
         }
 
@@ -813,7 +835,7 @@ public sealed class UnitAnalyzer
         }
     }
 
-    private void UpdateDrift(DateTimeOffset end, EstimatedValue?[] efficiencies, bool shared, bool suppressed, List<MonitorRecord> output)
+    private void UpdateDrift(DateTimeOffset end, EstimatedValue?[] efficiencies, bool shared, bool suppressed, List<MonitorRecord> output, bool dynamic = false)
     {
         for (int k = 0; k < _unit.Stages; k++)
         {
@@ -824,6 +846,12 @@ public sealed class UnitAnalyzer
 
             if (_baselineCount[k] < _settings.BaselineWindows)
             {
+                if (dynamic)
+                {
+                    // The baseline is learnt from steady windows only.
+                    continue;
+                }
+
 
                 // Learn the baseline (mean and variance of E across steady windows) before judging drift.
                 _baselineCount[k]++;
@@ -852,8 +880,8 @@ public sealed class UnitAnalyzer
             var key = new AlertKey("efficiency-drift", stage, null);
             bool condition = !suppressed && _cusum[k] > (_alerts.IsActive(key) ? _settings.EfficiencyDriftSigmas / 2 : _settings.EfficiencyDriftSigmas);
             _alerts.Update(end, key, condition, AlertSeverity.Medium,
-                $"{(stage is int s ? $"stage {s}" : "the unit")} efficiency {e.Value:F3} (sigma {e.Sigma:F3}) is below its baseline {_baseline[k]:F3} (CUSUM {_cusum[k]:F1} against {_settings.EfficiencyDriftSigmas:F1} sigma)",
-                new Dictionary<string, double> { ["efficiency"] = e.Value, ["sigma"] = e.Sigma, ["baseline"] = _baseline[k], ["cusum"] = _cusum[k], ["threshold"] = _settings.EfficiencyDriftSigmas },
+                $"{(stage is int s ? $"stage {s}" : "the unit")} efficiency {e.Value:F3} (sigma {e.Sigma:F3}{(dynamic ? $", dynamic model fitted over the last {_settings.WindowLength.TotalHours * _settings.DynamicFitWindows:G3} h" : string.Empty)}) is below its baseline {_baseline[k]:F3} (CUSUM {_cusum[k]:F1} against {_settings.EfficiencyDriftSigmas:F1} sigma)",
+                new Dictionary<string, double> { ["efficiency"] = e.Value, ["sigma"] = e.Sigma, ["baseline"] = _baseline[k], ["cusum"] = _cusum[k], ["threshold"] = _settings.EfficiencyDriftSigmas, ["dynamicFitHours"] = dynamic ? _settings.WindowLength.TotalHours * _settings.DynamicFitWindows : 0 },
                 output);
         }
     }
@@ -939,6 +967,33 @@ public sealed class UnitAnalyzer
     /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
     /// noise, but a Murphree stage beyond equilibrium is not a stage the model can solve.
     /// </summary>
+    // What the dynamic model sees of this window: the reconciled inlets and the analyzers of the stage raffinates and
+    // of the final extract.
+    private TrackerWindow TrackerWindowOf(MaterialStream feed, MaterialStream solvent, double temperature, Dictionary<string, WindowMeasurement> byTag)
+    {
+        var raffinate = new EstimatedValue?[_unit.Stages];
+        for (int k = 1; k <= _unit.Stages; k++)
+        {
+            raffinate[k - 1] = AnalyzerOf(UnitStream.RaffinateOf(k), byTag);
+        }
+
+        return new TrackerWindow(feed, solvent, temperature, raffinate, AnalyzerOf(_unit.FinalExtract, byTag));
+    }
+
+    private EstimatedValue? AnalyzerOf(UnitStream stream, Dictionary<string, WindowMeasurement> byTag)
+    {
+        QuantityKey key = QuantityKey.FractionOf(_model.StreamId(stream), _soluteId);
+        foreach (WindowMeasurement w in byTag.Values)
+        {
+            if (w.Key == key && _model.Binding(w.Tag)!.Instrument.IsAnalyzer)
+            {
+                return new EstimatedValue(w.Value, w.Sigma);
+            }
+        }
+
+        return null;
+    }
+
     private double[] ModelEfficiencies() => [.. _lastEfficiency.Select(e => Math.Clamp(e, 0.02, 1))];
 
     private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady)

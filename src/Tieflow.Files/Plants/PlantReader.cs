@@ -216,6 +216,8 @@ public static partial class PlantReader
         ["floodWindow"] = (1, 86400, "duration"),
         ["notDeterminableSigma"] = (0, 10, "(efficiency sigma above which a stage is not determinable)"),
         ["windowLength"] = (60, 86400, "duration"),
+        ["dynamicFitWindows"] = (0, 48, "(windows the dynamic model is fitted over between steady windows; 0 for none)"),
+        ["dynamicModelSigma"] = (0, 0.1, "(model error of a window-mean solute fraction in the dynamic fit)"),
     };
 
     private static NominalOperation? ReadNominal(JsonValue value, SystemFile system, int? stages)

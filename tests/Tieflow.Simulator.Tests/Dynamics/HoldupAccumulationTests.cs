@@ -2,7 +2,7 @@ using Tieflow.Core.Chemistry;
 using Tieflow.Core.Monitoring;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Reconciliation;
-using Tieflow.Simulator.Dynamics;
+using Tieflow.Core.Dynamics;
 using Xunit.Abstractions;
 
 namespace Tieflow.Simulator.Tests.Dynamics;

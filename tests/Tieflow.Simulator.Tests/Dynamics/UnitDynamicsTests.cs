@@ -4,7 +4,7 @@ using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Scenarios;
-using Tieflow.Simulator.Dynamics;
+using Tieflow.Core.Dynamics;
 
 namespace Tieflow.Simulator.Tests.Dynamics;
 

@@ -3,7 +3,7 @@ using Tieflow.Core.Monitoring;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Scenarios;
 using Tieflow.Simulator;
-using Tieflow.Simulator.Dynamics;
+using Tieflow.Core.Dynamics;
 
 namespace Tieflow.Service.Sources.Simulator;
 

@@ -1,7 +1,7 @@
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
 
-namespace Tieflow.Simulator.Dynamics;
+namespace Tieflow.Core.Dynamics;
 
 /// <summary>
 /// Splits a mixer's contents z into the raffinate and extract it sends to the settler, with the Murphree raffinate

@@ -1,15 +1,16 @@
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Scenarios;
 
-namespace Tieflow.Simulator.Dynamics;
+namespace Tieflow.Core.Dynamics;
 
 /// <summary>
 /// What drives a unit during one step: the streams that actually reach it, its temperature, and the faults acting
 /// on its stages. Flows and fractions on the system's basis. Arrays are per stage, stage 1 first; the caller owns
 /// them and may reuse them between steps.
 /// </summary>
-internal sealed class UnitInputs
+public sealed class UnitInputs
 {
+    /// <summary>Inputs for a unit of <paramref name="stages"/> stages, all efficiencies and entrainments zero.</summary>
     public UnitInputs(int stages)
     {
         Efficiencies = new double[stages];

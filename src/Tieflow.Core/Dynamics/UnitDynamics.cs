@@ -5,7 +5,7 @@ using Tieflow.Core.Equilibrium.Activity;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Scenarios;
 
-namespace Tieflow.Simulator.Dynamics;
+namespace Tieflow.Core.Dynamics;
 
 /// <summary>
 /// The dynamic model of one unit: N stages, each a mixer followed by a settler, connected counter-current or
@@ -34,7 +34,7 @@ namespace Tieflow.Simulator.Dynamics;
 /// the stage temperature, to 0.01 K so that a slow ramp does not rebuild it every step. Tie-line and distribution data
 /// hold at one temperature and are always read at the unit's design temperature.</para>
 /// </remarks>
-internal sealed class UnitDynamics
+public sealed class UnitDynamics
 {
     private const double TemperatureQuantumKelvin = 0.01;
     private const int MaxSubsteps = 10_000;
@@ -44,6 +44,7 @@ internal sealed class UnitDynamics
     private readonly double _referenceTemperature;
     private readonly int _n;
     private readonly bool _countercurrent;
+    private readonly CascadeArrangement _arrangement;
     private readonly double _mixerHoldup;
     private readonly double[] _raffinateLayer;
     private readonly double[] _extractLayer;
@@ -99,6 +100,7 @@ internal sealed class UnitDynamics
         _upper = new double[_n];
         _rhs = new double[_n];
 
+        _arrangement = unit.Arrangement;
         double t = ModelTemperature(initial.TemperatureKelvin);
         _envelope = new EnvelopeBranches(_model, t);
         CascadeResult steady = new CascadeSolver(_model, t).Solve(unit.Arrangement, initial.Feed, initial.Solvent, initial.Efficiencies);
@@ -106,16 +108,44 @@ internal sealed class UnitDynamics
         {
             StageResult s = steady.Stages[k];
             double l = s.Raffinate.Flow, v = s.Extract.Flow;
-            Ternary mixed = s.Raffinate.ComponentFlows + s.Extract.ComponentFlows;
-            _mixer[k] = (_mixerHoldup / mixed.Sum) * mixed;
             _raffinateLayer[k] = unit.Holdup.SettlerKg * l / (l + v);
             _extractLayer[k] = unit.Holdup.SettlerKg * v / (l + v);
+        }
+
+        SetInventories(steady);
+        InitialCascade = steady;
+    }
+
+    /// <summary>
+    /// Puts the model at the steady state of <paramref name="inputs"/> (solved by the cascade solver), the settler layers
+    /// keeping the sizes they were given at construction. Evaluate before reading streams.
+    /// </summary>
+    /// <exception cref="CascadeException">The operating point cannot be solved.</exception>
+    public void Settle(UnitInputs inputs)
+    {
+        ArgumentNullException.ThrowIfNull(inputs);
+        double t = ModelTemperature(inputs.TemperatureKelvin);
+        if (t != _envelope.TemperatureKelvin)
+        {
+            _envelope = new EnvelopeBranches(_model, t);
+        }
+
+        SetInventories(new CascadeSolver(_model, t).Solve(_arrangement, inputs.Feed, inputs.Solvent, inputs.Efficiencies));
+        Array.Clear(_slope);
+        _evaluatedFor = null;
+    }
+
+    private void SetInventories(CascadeResult steady)
+    {
+        for (int k = 0; k < _n; k++)
+        {
+            StageResult s = steady.Stages[k];
+            Ternary mixed = s.Raffinate.ComponentFlows + s.Extract.ComponentFlows;
+            _mixer[k] = (_mixerHoldup / mixed.Sum) * mixed;
             _settlerRaffinate[k] = _raffinateLayer[k] * s.Raffinate.Composition;
             _settlerExtract[k] = _extractLayer[k] * s.Extract.Composition;
             _warmY[k] = s.Extract.Composition.Solute;
         }
-
-        InitialCascade = steady;
     }
 
     /// <summary>Number of stages.</summary>
@@ -170,6 +200,30 @@ internal sealed class UnitDynamics
 
     /// <summary>Component flows leaving stage <paramref name="stage"/> at the last evaluation, per hour.</summary>
     public Ternary StageOutflow(int stage) => _raffinateOut[stage - 1].ComponentFlows + _extractOut[stage - 1].ComponentFlows;
+
+    /// <summary>
+    /// Takes over the state (every hold-up's inventory and the splitter's warm starts) of another model of the same unit,
+    /// so that a trajectory can be run again from it with other inputs. Evaluate before reading streams.
+    /// </summary>
+    /// <exception cref="ArgumentException">The other model has another number of stages.</exception>
+    public void CopyStateFrom(UnitDynamics other)
+    {
+        ArgumentNullException.ThrowIfNull(other);
+        if (other._n != _n || other._countercurrent != _countercurrent)
+        {
+            throw new ArgumentException($"The model to copy from has {other._n} stages ({(other._countercurrent ? "counter" : "cross")}-current); this one {_n} ({(_countercurrent ? "counter" : "cross")}-current).", nameof(other));
+        }
+
+        other._mixer.CopyTo(_mixer, 0);
+        other._settlerRaffinate.CopyTo(_settlerRaffinate, 0);
+        other._settlerExtract.CopyTo(_settlerExtract, 0);
+        other._raffinateLayer.CopyTo(_raffinateLayer, 0);
+        other._extractLayer.CopyTo(_extractLayer, 0);
+        other._warmY.CopyTo(_warmY, 0);
+        other._slope.CopyTo(_slope, 0);
+        _envelope = other._envelope;
+        _evaluatedFor = null;
+    }
 
     /// <summary>Computes every stream of the unit at the current state for these inputs.</summary>
     /// <exception cref="SimulationException">A stage has become one liquid phase or left the equilibrium data.</exception>

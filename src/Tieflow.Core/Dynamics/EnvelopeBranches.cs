@@ -1,7 +1,7 @@
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
 
-namespace Tieflow.Simulator.Dynamics;
+namespace Tieflow.Core.Dynamics;
 
 /// <summary>
 /// The raffinate and extract branches of a model's phase envelope at one temperature, as the stage dynamics read
