@@ -60,6 +60,43 @@ public sealed class SignalCheckerTests
         Assert.Contains("FI-301", last.Detail, StringComparison.Ordinal);
     }
 
+    [Theory]
+    [Trait("Category", "Slow")]
+    [InlineData(null, 0)]
+    [InlineData(1e-6, 1)]
+    public void HealthyNoiseOverMonthsOfTagDays_IsNeverFrozen(double? probability, int atLeast)
+    {
+        const int TagDays = 120;
+
+        // The variance test runs at every reading over overlapping stretches, so its per-test probability must be far
+        // below the rate of readings: 120 tag-days of healthy noise at a reading a second (seeded). The default calls
+        // none of it frozen; the old 1e-6 does (the check that this test can fail).
+        SignalCheckSettings settings = probability is double p ? new SignalCheckSettings { FrozenProbability = p } : new SignalCheckSettings();
+        var random = new Random(17);
+        int frozen = 0;
+        for (int tag = 0; tag < TagDays; tag++)
+        {
+            var checker = new SignalChecker(FlowMeter, settings);
+            for (int i = 0; i < 86_400; i++)
+            {
+                if (checker.Check(new SignalSample("FI-301", T0.AddSeconds(i), 1000 + (8 * Gauss(random)), SignalQuality.Good)).Problem == SignalProblem.Frozen)
+                {
+                    frozen++;
+                    break;
+                }
+            }
+        }
+
+        if (atLeast == 0)
+        {
+            Assert.Equal(0, frozen);
+        }
+        else
+        {
+            Assert.True(frozen >= atLeast, $"{frozen} of {TagDays} tag-days called frozen");
+        }
+    }
+
     [Fact]
     public void Spike_IsLeftOutAndTheNextReadingIsUsed()
     {
