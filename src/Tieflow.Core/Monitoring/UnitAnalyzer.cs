@@ -49,6 +49,9 @@ public sealed class UnitAnalyzer
     private readonly RaffinateTrend _trend;
     private readonly RaffinateTrend _accumulationTrend;
     private readonly DynamicEfficiencyTracker? _tracker;
+    private readonly SolventOnsetTest _solventOnset = new();
+    private readonly string? _solventMeter;
+    private SolventOnsetVerdict? _solventMeterBias;
     private readonly TimeSpan _lag;
     private readonly double[] _baseline;
     private readonly double[] _baselineVariance;
@@ -124,6 +127,8 @@ public sealed class UnitAnalyzer
         _countEfficiency = new int[n];
         _trend = new RaffinateTrend(n, TrendPoints);
         _accumulationTrend = new RaffinateTrend(n, AccumulationTrendPoints);
+
+        _solventMeter = _model.Bindings.FirstOrDefault(b => b.Key == QuantityKey.FlowOf(_model.StreamId(UnitStream.Solvent)))?.Instrument.Tag;
 
         // A mixer-settler train's stages have streams of their own to measure: between steady windows the dynamic model
         // follows their efficiencies. A column's theoretical stages have none.
@@ -505,8 +510,10 @@ public sealed class UnitAnalyzer
             _tracker!.AddSteady(trackerWindow, ModelEfficiencies());
         }
 
-        (double dissolved, double unaccounted, double unaccountedSigma) = SolventAccounting(final, byTag, rec.TotalAccumulation(_model.ComponentIds[2]));
-        bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null));
+        SolventBalance balance = SolventAccounting(final, byTag, rec.TotalAccumulation(_model.ComponentIds[2]));
+        (double dissolved, double unaccounted, double unaccountedSigma) = (balance.Dissolved, balance.Unaccounted, balance.Sigma);
+        _solventOnset.Add(end, unaccounted, unaccountedSigma, balance.Meter, balance.MeterSigma, balance.ExtractSolvent, balance.ExtractSolventSigma);
+        bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null)) || _solventMeterBias is not null;
         bool analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
         bool driftSuppressed = keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect;
         if (!steady && trackerWindow is not null && _tracker!.Add(trackerWindow) is { } fit)
@@ -520,9 +527,11 @@ public sealed class UnitAnalyzer
         {
             UpdateSolventLoss(end, solvent.Flow, unaccounted, unaccountedSigma, output);
 
-            // Consequential alerts are suppressed (ISA-18.2 design-based suppression): while a solvent loss is raised,
-            // the flow meters whose balance it opens are not suspects and the efficiencies it biases do not drift.
-            // Likewise while an analyzer is a suspect instrument: the balances every efficiency rests on carry its error.
+            // Consequential alerts are suppressed (ISA-18.2 design-based suppression): while a solvent loss is raised
+            // (or the solvent meter is found biased by the onset of the open balance), the flow meters whose balance it
+            // opens are not suspects and the efficiencies it biases do not drift. Likewise while an analyzer is a
+            // suspect instrument: the balances every efficiency rests on carry its error.
+            leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null)) || _solventMeterBias is not null;
             UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, output);
             analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
             UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect, output);
@@ -893,6 +902,16 @@ public sealed class UnitAnalyzer
             bool named = suspects.Contains(tag);
             _suspectRuns[tag] = named ? (_suspectRuns.TryGetValue(tag, out int r) ? r + 1 : 1) : 0;
             var key = new AlertKey("suspect-instrument", null, tag);
+            if (tag == _solventMeter && _solventMeterBias is { } bias)
+            {
+                string unit = _unit.System.FlowUnit;
+                _alerts.Update(end, key, true, AlertSeverity.Medium,
+                    $"{tag} reads about {bias.Size:F1} {unit} high: the solvent balance opened when its reading stepped up while the solvent leaving in the extract did not move (chi-square {bias.BiasChiSquare:F1} for a biased meter against {bias.LossChiSquare:F0} for a loss)",
+                    new Dictionary<string, double> { ["step"] = bias.Size, ["biasChiSquare"] = bias.BiasChiSquare, ["lossChiSquare"] = bias.LossChiSquare },
+                    output);
+                continue;
+            }
+
             bool condition = _suspectRuns[tag] >= _settings.SuspectWindows || (_alerts.IsActive(key) && named);
             _alerts.Update(end, key, condition, AlertSeverity.Medium,
                 $"{tag} disagrees with the material balances: named by the gross-error tests in {_suspectRuns[tag]} consecutive steady windows",
@@ -901,7 +920,7 @@ public sealed class UnitAnalyzer
         }
     }
 
-    private (double Dissolved, double Unaccounted, double Sigma) SolventAccounting(ReconciliationResult final, Dictionary<string, WindowMeasurement> byTag, double holdupGain)
+    private SolventBalance SolventAccounting(ReconciliationResult final, Dictionary<string, WindowMeasurement> byTag, double holdupGain)
     {
         string solventId = _model.ComponentIds[2];
         QuantityEstimate rf = final.Flow("raffinate"), rs = final.Fraction("raffinate", solventId);
@@ -929,12 +948,12 @@ public sealed class UnitAnalyzer
         QuantityEstimate es = final.Fraction("extract", solventId), fs = final.Fraction("solvent", solventId);
         if (!double.IsFinite(solventFlow) || !double.IsFinite(extractFlow) || !double.IsFinite(raffinateFlow) || !es.HasValue || !fs.HasValue || !rs.HasValue)
         {
-            return (dissolved, double.NaN, double.NaN);
+            return new SolventBalance(dissolved, double.NaN, double.NaN, double.NaN, double.NaN, double.NaN, double.NaN);
         }
 
         double unaccounted = (solventFlow * fs.Value) - (extractFlow * es.Value) - (raffinateFlow * rs.Value) - holdupGain;
         double sigma = Math.Sqrt(Math.Pow(sSolvent * fs.Value, 2) + Math.Pow(sExtract * es.Value, 2) + Math.Pow(sRaffinate * rs.Value, 2));
-        return (dissolved, unaccounted, sigma);
+        return new SolventBalance(dissolved, unaccounted, sigma, solventFlow * fs.Value, sSolvent * fs.Value, extractFlow * es.Value, sExtract * es.Value);
     }
 
     private void UpdateSolventLoss(DateTimeOffset end, double solventFlow, double unaccounted, double sigma, List<MonitorRecord> output)
@@ -955,18 +974,37 @@ public sealed class UnitAnalyzer
         double threshold = Math.Max(_settings.SolventLossKgPerHour, _settings.SolventLossFraction * solventFlow);
         var key = new AlertKey("solvent-loss", null, null);
         bool active = _alerts.IsActive(key);
-        bool condition = excess > (active ? threshold / 2 : threshold) && excess > 3 * sigma;
+        bool open = excess > (active || _solventMeterBias is not null ? threshold / 2 : threshold) && excess > 3 * sigma;
+
+        // An open balance is a loss or a solvent meter that reads high; the onset tells which (SolventOnsetTest). Once
+        // judged, the verdict holds while the balance stays open.
+        SolventOnsetVerdict? verdict = null;
+        if (open && !active && _solventMeterBias is null)
+        {
+            verdict = _solventOnset.Judge();
+            if (verdict.Kind == SolventOnsetKind.MeterBias && _solventMeter is not null)
+            {
+                _solventMeterBias = verdict;
+            }
+        }
+        else if (!open)
+        {
+            _solventMeterBias = null;
+        }
+
         string unit = _unit.System.FlowUnit;
-        _alerts.Update(end, key, condition, AlertSeverity.High,
-            $"{excess:F1} {unit} of solvent are unaccounted for (sigma {sigma:F1} {unit}; set point {threshold:F1} {unit})",
+        string onset = verdict?.Kind switch
+        {
+            SolventOnsetKind.Loss => $"; lost between the solvent meter and the unit (or from the unit): when the balance opened the extract's solvent fell by {verdict.Size:F1} {unit} while the meter did not move (chi-square {verdict.LossChiSquare:F1} for a loss against {verdict.BiasChiSquare:F0} for a biased meter)",
+            SolventOnsetKind.Undecided => "; a loss, or a solvent meter that reads high: the onset does not tell them apart",
+            _ => string.Empty,
+        };
+        _alerts.Update(end, key, open && _solventMeterBias is null, AlertSeverity.High,
+            $"{excess:F1} {unit} of solvent are unaccounted for (sigma {sigma:F1} {unit}; set point {threshold:F1} {unit}){onset}",
             new Dictionary<string, double> { ["unaccounted"] = excess, ["sigma"] = sigma, ["threshold"] = threshold },
             output);
     }
 
-    /// <summary>
-    /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
-    /// noise, but a Murphree stage beyond equilibrium is not a stage the model can solve.
-    /// </summary>
     // What the dynamic model sees of this window: the reconciled inlets and the analyzers of the stage raffinates and
     // of the final extract.
     private TrackerWindow TrackerWindowOf(MaterialStream feed, MaterialStream solvent, double temperature, Dictionary<string, WindowMeasurement> byTag)
@@ -994,6 +1032,10 @@ public sealed class UnitAnalyzer
         return null;
     }
 
+    /// <summary>
+    /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
+    /// noise, but a Murphree stage beyond equilibrium is not a stage the model can solve.
+    /// </summary>
     private double[] ModelEfficiencies() => [.. _lastEfficiency.Select(e => Math.Clamp(e, 0.02, 1))];
 
     private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady)
@@ -1059,4 +1101,8 @@ public sealed class UnitAnalyzer
 
         public TagWindow? TagWindow { get; set; }
     }
+
+    /// <summary>One window's solvent accounting: dissolved in the raffinate, unaccounted with its sigma, and what the
+    /// onset test compares (solvent by the meter, solvent leaving in the extract), per hour.</summary>
+    private readonly record struct SolventBalance(double Dissolved, double Unaccounted, double Sigma, double Meter, double MeterSigma, double ExtractSolvent, double ExtractSolventSigma);
 }

@@ -16,6 +16,8 @@ public sealed class ScenarioEvaluationTests
     [Trait("Category", "Slow")]
     [InlineData("fault-entrainment-extract", "entrainment", 1.0)]
     [InlineData("fault-solvent-loss", "solvent-loss", 2.0)]
+    // The same open solvent balance from a meter that reads high: named as a suspect instrument, not as a loss.
+    [InlineData("fault-solvent-meter-bias", "suspect-instrument", 2.0)]
     [InlineData("fault-sensor-stuck", "signal-quality", 0.5)]
     [InlineData("fault-signal-bad", "signal-quality", 0.5)]
     [InlineData("fault-signal-frozen", "signal-quality", 0.5)]
@@ -52,6 +54,13 @@ public sealed class ScenarioEvaluationTests
         Assert.Equal(alertKind, fault.GetProperty("alertKind").GetString());
         TimeSpan delay = TimeSpan.Parse(fault.GetProperty("delay").GetString()!, CultureInfo.InvariantCulture);
         Assert.True(delay <= TimeSpan.FromHours(hours), $"{name}: detected after {delay}, bound {hours} h");
+
+        if (name == "fault-solvent-meter-bias")
+        {
+            JsonElement x300 = doc.RootElement.GetProperty("units").EnumerateArray().Single(u => u.GetProperty("id").GetString() == "X300");
+            JsonElement suspect = x300.GetProperty("alerts").EnumerateArray().Single(a => a.GetProperty("kind").GetString() == "suspect-instrument");
+            Assert.Equal("FI-302", suspect.GetProperty("tag").GetString());
+        }
 
         if (name == "fault-stage-efficiency")
         {
