@@ -1,3 +1,4 @@
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Equilibrium;
 
@@ -18,7 +19,7 @@ internal static class MurphreeSplitter
     private const int ScanCells = 64;
 
     /// <summary>Splits z; <paramref name="slope"/> is dg/dy from the previous step (0 when unknown), updated here.</summary>
-    public static MurphreeSplit Split(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double yStart, ref double slope, int stage)
+    public static MurphreeSplit Split(Envelope envelope, Ternary z, double xIn, double efficiency, double yStart, ref double slope, int stage)
     {
         double yMax = envelope.ExtractMax;
         double tolerance = 1e-13 * Math.Max(yStart, 1e-3);
@@ -75,7 +76,7 @@ internal static class MurphreeSplitter
         return Finish(new Point(envelope, xIn, efficiency, Scan(envelope, z, xIn, efficiency, stage), z), z, stage);
     }
 
-    private static double Scan(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, int stage)
+    private static double Scan(Envelope envelope, Ternary z, double xIn, double efficiency, int stage)
     {
         double yMax = envelope.ExtractMax;
         double previousY = 0, previousG = Evaluate(envelope, z, xIn, efficiency, 0);
@@ -102,7 +103,7 @@ internal static class MurphreeSplitter
             $"at efficiency {efficiency:G4}; the stage has become one liquid phase or left the equilibrium data. Check the solvent-to-feed ratio and the temperature of the scenario.");
     }
 
-    private static double Bisect(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double a, double b, double ga)
+    private static double Bisect(Envelope envelope, Ternary z, double xIn, double efficiency, double a, double b, double ga)
     {
         for (int i = 0; i < 200 && b - a > 1e-15 * Math.Max(b, 1e-3); i++)
         {
@@ -143,7 +144,7 @@ internal static class MurphreeSplitter
         return new MurphreeSplit(r, e, Math.Clamp(beta, 0, 1), p.Y, p.Tie.Raffinate.Solute);
     }
 
-    private static double Evaluate(EnvelopeBranches envelope, Ternary z, double xIn, double efficiency, double y)
+    private static double Evaluate(Envelope envelope, Ternary z, double xIn, double efficiency, double y)
     {
         TieLine tie = envelope.FromExtract(y);
         Ternary r = envelope.Raffinate(xIn - (efficiency * (xIn - tie.Raffinate.Solute)));
@@ -158,7 +159,7 @@ internal static class MurphreeSplitter
     /// <summary>One evaluation of the stage condition at extract solute y, keeping the phases for the answer.</summary>
     private readonly struct Point
     {
-        public Point(EnvelopeBranches envelope, double xIn, double efficiency, double y, Ternary z)
+        public Point(Envelope envelope, double xIn, double efficiency, double y, Ternary z)
         {
             Y = y;
             Tie = envelope.FromExtract(y);

@@ -66,7 +66,7 @@ public sealed class UnitDynamics
     private readonly double[] _lower;
     private readonly double[] _upper;
     private readonly double[] _rhs;
-    private EnvelopeBranches _envelope;
+    private Envelope _envelope;
     private UnitInputs? _evaluatedFor;
 
     /// <summary>Creates the model at the steady state of <paramref name="initial"/> (solved by the cascade solver).</summary>
@@ -102,7 +102,7 @@ public sealed class UnitDynamics
 
         _arrangement = unit.Arrangement;
         double t = ModelTemperature(initial.TemperatureKelvin);
-        _envelope = new EnvelopeBranches(_model, t);
+        _envelope = new Envelope(_model, t);
         CascadeResult steady = new CascadeSolver(_model, t).Solve(unit.Arrangement, initial.Feed, initial.Solvent, initial.Efficiencies);
         for (int k = 0; k < _n; k++)
         {
@@ -127,7 +127,7 @@ public sealed class UnitDynamics
         double t = ModelTemperature(inputs.TemperatureKelvin);
         if (t != _envelope.TemperatureKelvin)
         {
-            _envelope = new EnvelopeBranches(_model, t);
+            _envelope = new Envelope(_model, t);
         }
 
         SetInventories(new CascadeSolver(_model, t).Solve(_arrangement, inputs.Feed, inputs.Solvent, inputs.Efficiencies));
@@ -232,7 +232,7 @@ public sealed class UnitDynamics
         double t = ModelTemperature(inputs.TemperatureKelvin);
         if (t != _envelope.TemperatureKelvin)
         {
-            _envelope = new EnvelopeBranches(_model, t);
+            _envelope = new Envelope(_model, t);
             Array.Clear(_slope);
         }
 
