@@ -130,10 +130,10 @@ public sealed class UnitAnalyzer
 
         _solventMeter = _model.Bindings.FirstOrDefault(b => b.Key == QuantityKey.FlowOf(_model.StreamId(UnitStream.Solvent)))?.Instrument.Tag;
 
-        // A mixer-settler train's stages have streams of their own to measure: between steady windows the dynamic model
-        // follows their efficiencies. A column's theoretical stages have none.
-        _tracker = unit.Kind == UnitKind.MixerSettler && _settings.DynamicFitWindows > 0
-            ? new DynamicEfficiencyTracker(unit, _settings.WindowLength, _settings.DynamicFitWindows, _settings.DynamicModelSigma)
+        // Between steady windows the dynamic model follows the efficiencies: per stage for a mixer-settler train, whose
+        // stages have streams of their own to measure; one shared efficiency for a column's theoretical stages.
+        _tracker = _settings.DynamicFitWindows > 0
+            ? new DynamicEfficiencyTracker(unit, _settings.WindowLength, _settings.DynamicFitWindows, _settings.DynamicModelSigma, shared: unit.Kind == UnitKind.Column)
             : null;
         foreach (string tag in KeyTags())
         {
@@ -520,7 +520,7 @@ public sealed class UnitAnalyzer
         {
             // Between steady windows the drift is judged on the dynamic model's fit over the last windows; the records
             // keep the steady windows' efficiencies only.
-            UpdateDrift(end, fit.Efficiencies, shared: false, driftSuppressed, output, dynamic: true);
+            UpdateDrift(end, fit.Efficiencies, shared: _unit.Kind == UnitKind.Column, driftSuppressed, output, dynamic: true);
         }
 
         if (steady)

@@ -25,9 +25,9 @@ public sealed class ScenarioEvaluationTests
     [InlineData("fault-sensor-drift", "suspect-instrument", 8.0)]
     // Between steady windows the train's dynamic model follows the ramp (2 h here; the steady windows alone took 9 h).
     [InlineData("fault-stage-efficiency", "efficiency-drift", 2.0)]
-    // Target 2 h, not met for the column: its theoretical stages have no streams of their own to fit a dynamic model
-    // to, and the steady-state gate waits for it to settle after the ramp.
-    [InlineData("fault-column-efficiency", "efficiency-drift", 10.0)]
+    // Target 2 h, not met for the column (2.5 h; the steady windows alone took 8.5 h): one efficiency shared by its
+    // theoretical stages, fitted to the terminal analyzers only, lags a three-hour ramp to 0.7 by about half an hour.
+    [InlineData("fault-column-efficiency", "efficiency-drift", 2.5)]
     // Entrainment in an interstage extract is re-mixed in the next mixer and not observable with these instruments:
     // only the absence of false alerts is checked.
     [InlineData("fault-entrainment", null, 0.0)]

@@ -44,6 +44,7 @@ public sealed class DynamicEfficiencyTracker
     private readonly double _substepSeconds;
     private readonly double _modelSigma;
     private readonly double _priorSigma;
+    private readonly bool _shared;
     private readonly List<TrackerWindow> _windows = [];
     private readonly double[] _theta;
     private readonly UnitInputs _inputs;
@@ -59,7 +60,8 @@ public sealed class DynamicEfficiencyTracker
     /// <param name="modelSigma">Model error of a window-mean solute fraction, added to each analyzer's sigma in quadrature; at least 0.</param>
     /// <param name="priorSigma">Sigma of the prior at the last estimate (how far one window may move an efficiency); above 0.</param>
     /// <exception cref="ArgumentOutOfRangeException">A setting is out of range.</exception>
-    public DynamicEfficiencyTracker(UnitDescription unit, TimeSpan windowLength, int horizonWindows = 2, double modelSigma = 3e-4, double priorSigma = 0.15)
+    /// <param name="shared">One efficiency for every stage (a column's theoretical stages, which have no streams of their own to measure).</param>
+    public DynamicEfficiencyTracker(UnitDescription unit, TimeSpan windowLength, int horizonWindows = 2, double modelSigma = 3e-4, double priorSigma = 0.15, bool shared = false)
     {
         ArgumentNullException.ThrowIfNull(unit);
         ArgumentOutOfRangeException.ThrowIfLessThan(horizonWindows, 1);
@@ -71,6 +73,7 @@ public sealed class DynamicEfficiencyTracker
         _horizon = horizonWindows;
         _modelSigma = modelSigma;
         _priorSigma = priorSigma;
+        _shared = shared;
 
         // Steps of at most 6 minutes, a fifth of the demo train's mixer time constant (a choice of ours): against the
         // simulated train at 5 s steps its errors were those of 3-minute steps (measured with its tests), at half the cost.
@@ -163,22 +166,35 @@ public sealed class DynamicEfficiencyTracker
 
     private DynamicFit? Fit()
     {
-        // The stages whose own raffinate is measured in the horizon are fitted; the others keep their efficiency.
-        var fitted = new List<int>();
-        for (int k = 0; k < _n; k++)
+        // The stages whose own raffinate is measured in the horizon are fitted; the others keep their efficiency. A
+        // shared efficiency (a column's theoretical stages) is one parameter for every stage.
+        var groups = new List<int[]>();
+        if (_shared)
         {
-            if (_windows.Any(w => w.RaffinateSolute[k] is not null))
+            if (_windows.Any(w => w.ExtractSolute is not null || w.RaffinateSolute.Any(x => x is not null)))
             {
-                fitted.Add(k);
+                groups.Add([.. Enumerable.Range(0, _n)]);
+            }
+        }
+        else
+        {
+            for (int k = 0; k < _n; k++)
+            {
+                if (_windows.Any(w => w.RaffinateSolute[k] is not null))
+                {
+                    groups.Add([k]);
+                }
             }
         }
 
-        if (fitted.Count == 0)
+        if (groups.Count == 0)
         {
             return null;
         }
 
-        int p = fitted.Count;
+        int[] fitted = [.. groups.Select(g => g[0])];
+
+        int p = fitted.Length;
         double[] prior = [.. _theta];
         double[] theta = [.. _theta];
         double[] trial = new double[_n];
@@ -193,7 +209,11 @@ public sealed class DynamicEfficiencyTracker
                 int k = fitted[j];
                 theta.CopyTo(trial, 0);
                 double h = theta[k] + Step <= 1 ? Step : -Step;
-                trial[k] = theta[k] + h;
+                foreach (int m in groups[j])
+                {
+                    trial[m] = theta[k] + h;
+                }
+
                 (double[] r1, _) = Residuals(trial);
                 jacobian[j] = new double[r0.Length];
                 for (int i = 0; i < r0.Length; i++)
@@ -236,8 +256,12 @@ public sealed class DynamicEfficiencyTracker
             DenseCholesky.Solve(g, p, b);
             for (int a = 0; a < p; a++)
             {
-                int k = fitted[a];
-                theta[k] = Math.Clamp(theta[k] + b[a], Lowest, 1);
+                double moved = Math.Clamp(theta[fitted[a]] + b[a], Lowest, 1);
+                foreach (int m in groups[a])
+                {
+                    theta[m] = moved;
+                }
+
             }
         }
 
@@ -261,7 +285,10 @@ public sealed class DynamicEfficiencyTracker
             Array.Clear(unit);
             unit[a] = 1;
             DenseCholesky.Solve(g, p, unit);
-            estimates[fitted[a]] = new EstimatedValue(theta[fitted[a]], Math.Sqrt(unit[a] * scale));
+            foreach (int m in groups[a])
+            {
+                estimates[m] = new EstimatedValue(theta[m], Math.Sqrt(unit[a] * scale));
+            }
         }
 
         theta.CopyTo(_theta, 0);
