@@ -36,6 +36,11 @@ public sealed partial class OutboxForwarder
         ArgumentNullException.ThrowIfNull(writer);
         ArgumentNullException.ThrowIfNull(options);
         ArgumentNullException.ThrowIfNull(time);
+        if (options.MaxInFlight is < 1 or > 8)
+        {
+            throw new ArgumentOutOfRangeException(nameof(options), options.MaxInFlight, "MaxInFlight must lie in 1 to 8.");
+        }
+
         _outbox = outbox;
         _writer = writer;
         _options = options;
@@ -107,7 +112,7 @@ public sealed partial class OutboxForwarder
     /// </remarks>
     public async Task RunAsync(CancellationToken cancellationToken)
     {
-        int limit = Math.Clamp(_options.MaxInFlight, 1, 8);
+        int limit = _options.MaxInFlight;
         long after = long.MinValue;
         var inFlight = new Queue<(long LastId, int Count, Task Send)>(limit);
         try

@@ -16,6 +16,16 @@ public sealed class OutboxForwarderInFlightTests : IDisposable
 
     public void Dispose() => _folder.Dispose();
 
+    [Theory]
+    [InlineData(0)]
+    [InlineData(9)]
+    public void Requests_in_flight_outside_1_to_8_are_refused(int inFlight)
+    {
+        using var outbox = new StoreOutbox(new OutboxOptions { Path = _folder.File("outbox.db"), Site = Records.Site });
+        var e = Assert.Throws<ArgumentOutOfRangeException>(() => new OutboxForwarder(outbox, new GatedWriter(), new OutboxForwarderOptions { MaxInFlight = inFlight }, _clock));
+        Assert.Contains("MaxInFlight", e.Message, StringComparison.Ordinal);
+    }
+
     [Fact]
     public async Task A_later_batch_accepted_before_an_earlier_one_fails_stays_until_the_earlier_one_is_accepted()
     {
