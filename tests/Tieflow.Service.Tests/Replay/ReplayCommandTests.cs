@@ -69,11 +69,7 @@ public sealed class ReplayCommandTests
     {
         // The demo's clean scenario: more feed, a leaner feed, more solvent, a warmer day, a feed change on the column.
         using var folder = new TempFolder();
-        string scenarioPath = Path.Combine(RepositoryPaths.ConfigSamples, "scenarios", "clean.scenario.json");
-        (string history, string labs, string truth) = SimulatedHistory.Write(ScenarioReader.Load(scenarioPath), folder.Path);
-        string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json");
-
-        CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--json");
+        CliRun run = SampleReplay.Run("clean", folder.Path);
 
         Assert.True(run.ExitCode == 0, run.Error);
         using JsonDocument doc = JsonDocument.Parse(run.Output);

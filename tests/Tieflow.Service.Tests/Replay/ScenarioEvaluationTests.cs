@@ -1,6 +1,5 @@
 using System.Globalization;
 using System.Text.Json;
-using Tieflow.Files;
 
 namespace Tieflow.Service.Tests.Replay;
 
@@ -34,11 +33,7 @@ public sealed class ScenarioEvaluationTests
     public void Replay_FaultScenario_IsDetectedInTimeWithoutFalseAlerts(string name, string? alertKind, double hours)
     {
         using var folder = new TempFolder();
-        string scenarioPath = Path.Combine(RepositoryPaths.ConfigSamples, "scenarios", name + ".scenario.json");
-        (string history, string labs, string truth) = SimulatedHistory.Write(ScenarioReader.Load(scenarioPath), folder.Path);
-        string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json");
-
-        CliRun run = CliRun.Of("replay", "--plant", plant, "--history", history, "--labs", labs, "--truth", truth, "--json");
+        CliRun run = SampleReplay.Run(name, folder.Path);
 
         Assert.True(run.ExitCode == 0, run.Error);
         using JsonDocument doc = JsonDocument.Parse(run.Output);
