@@ -9,10 +9,10 @@ namespace Tieflow.Tests.Shared;
 internal static class SoakSize
 {
     /// <summary>
-    /// The positive whole number in environment variable <paramref name="variable"/>, or <paramref name="ciDefault"/>
-    /// when it is not set; any other value fails the test with the variable and the value named.
+    /// The whole number of at least <paramref name="minimum"/> in environment variable <paramref name="variable"/>, or
+    /// <paramref name="ciDefault"/> when it is not set; any other value fails the test with the variable and the value named.
     /// </summary>
-    public static int Of(string variable, int ciDefault)
+    public static int Of(string variable, int ciDefault, int minimum = 1)
     {
         string? text = Environment.GetEnvironmentVariable(variable);
         if (string.IsNullOrWhiteSpace(text))
@@ -20,9 +20,9 @@ internal static class SoakSize
             return ciDefault;
         }
 
-        if (!int.TryParse(text.Trim(), NumberStyles.None, CultureInfo.InvariantCulture, out int value) || value < 1)
+        if (!int.TryParse(text.Trim(), NumberStyles.None, CultureInfo.InvariantCulture, out int value) || value < minimum)
         {
-            throw new InvalidOperationException($"environment variable {variable}: '{text}' is not a positive whole number");
+            throw new InvalidOperationException($"environment variable {variable}: '{text}' is not a whole number of at least {minimum}");
         }
 
         return value;

@@ -24,7 +24,7 @@ public sealed class OutboxOutageTests : IDisposable
     private const int Chunk = 100;
     private static readonly TimeSpan Generous = TimeSpan.FromSeconds(120);
     private readonly int _count = SoakSize.Of("TIEFLOW_SOAK_OUTAGE_RECORDS", 20_000);
-    private readonly int _rate = SoakSize.Of("TIEFLOW_SOAK_OUTAGE_RATE", 0); // records per second; 0: as fast as it can
+    private readonly int _rate = SoakSize.Of("TIEFLOW_SOAK_OUTAGE_RATE", 0, minimum: 0); // records per second; 0: as fast as it can
     private readonly VictoriaMetricsServer _server = new();
     private readonly TempFolder _folder = new();
     private readonly ITestOutputHelper _log;
@@ -60,8 +60,17 @@ public sealed class OutboxOutageTests : IDisposable
         using (var outbox = new StoreOutbox(new OutboxOptions { Path = _folder.File("outbox.db"), Site = Records.Site }))
         {
             var forwarder = new OutboxForwarder(outbox, writer, options, TimeProvider.System);
+            var errors = new List<string>();
             forwarder.StateChanged += s =>
             {
+                if (s is ForwarderState.Failing or ForwarderState.CircuitOpen)
+                {
+                    lock (errors)
+                    {
+                        errors.Add($"{clock.Elapsed.TotalSeconds:F1} s {s}: {forwarder.LastError}");
+                    }
+                }
+
                 if (s is ForwarderState.Failing or ForwarderState.CircuitOpen)
                 {
                     sawOutage.TrySetResult();
@@ -132,6 +141,11 @@ public sealed class OutboxOutageTests : IDisposable
             await run;
             Assert.Equal(0, outbox.PendingRecords);
             Assert.Equal(0, outbox.DroppedRecords);
+            lock (errors)
+            {
+                _log.WriteLine($"forwarder: {forwarder.Forwarded} records forwarded, {forwarder.Failures} failed requests; the first and last failures: {string.Join(" | ", errors.Take(3).Concat(errors.Skip(Math.Max(3, errors.Count - 3))))}");
+            }
+
             _log.WriteLine($"records {acknowledged} in {written.TotalSeconds:F0} s ({(_rate > 0 ? $"paced at {_rate}/s" : "unpaced")}), server away {(started - stopped).TotalSeconds:F0} s, "
                 + $"all forwarded {(clock.Elapsed - started).TotalSeconds:F0} s after it came back, at most {mostPending} held; "
                 + $"peak RSS of the writing process {SoakSize.PeakRssKib(self) / 1024} MB before the comparison");
