@@ -36,37 +36,32 @@ internal static class Records
         new("X300", time, tag, value, quality);
 
     /// <summary>A mixed stream of records as a monitor writes them: per minute a window's analysis records and signal samples per second.</summary>
-    public static List<MonitorRecord> Mixed(int count, DateTimeOffset? start = null, int seed = 7)
+    public static List<MonitorRecord> Mixed(int count, DateTimeOffset? start = null, int seed = 7) => MixedSequence(start, seed).Take(count).ToList();
+
+    /// <summary>The records of <see cref="Mixed"/> made one at a time, without end: the first n are <c>Mixed(n)</c> of the same start and seed.</summary>
+    public static IEnumerable<MonitorRecord> MixedSequence(DateTimeOffset? start = null, int seed = 7)
     {
         var random = new Random(seed);
         DateTimeOffset t0 = start ?? Start;
-        var result = new List<MonitorRecord>(count);
-        for (int i = 0; result.Count < count; i++)
+        for (int i = 0; ; i++)
         {
             DateTimeOffset t = t0.AddSeconds(i);
             if (i % 60 == 0)
             {
-                result.Add(Stream(t, flow: 1100 + (random.NextDouble() * 100)));
-                result.Add(Stage(t, 1, 0.8 + (random.NextDouble() * 0.1)));
-                result.Add(Unit(t));
-                result.Add(Sensor(t));
+                yield return Stream(t, flow: 1100 + (random.NextDouble() * 100));
+                yield return Stage(t, 1, 0.8 + (random.NextDouble() * 0.1));
+                yield return Unit(t);
+                yield return Sensor(t);
                 if (i % 3600 == 0)
                 {
-                    result.Add(Alert(t, active: (i / 3600) % 2 == 0));
+                    yield return Alert(t, active: (i / 3600) % 2 == 0);
                 }
             }
 
-            for (int tag = 0; tag < 8 && result.Count < count; tag++)
+            for (int tag = 0; tag < 8; tag++)
             {
-                result.Add(Signal(t, $"TAG-{tag:D2}", random.NextDouble() * 100));
+                yield return Signal(t, $"TAG-{tag:D2}", random.NextDouble() * 100);
             }
         }
-
-        if (result.Count > count)
-        {
-            result.RemoveRange(count, result.Count - count);
-        }
-
-        return result;
     }
 }

@@ -107,14 +107,20 @@ public sealed partial class OutboxForwarder
     /// Up to <see cref="OutboxForwarderOptions.MaxInFlight"/> requests are in flight at a time, each a batch in the
     /// outbox's order. The oldest is awaited first; once it is accepted its points are removed from the outbox while
     /// the later requests are still on their way, so the local commit overlaps the network. After a failure the
-    /// requests still in flight are awaited and the forwarder starts again from the oldest point still held (a batch
-    /// the server took meanwhile is sent again: its points have the same keys, so the server overwrites them).
+    /// requests still in flight are awaited and the forwarder starts again from the oldest point still held, leaving
+    /// out the later batches the server took meanwhile: they stay in the outbox until everything before them is
+    /// accepted, but are not sent again (a server without overwrite by key, such as victoria-metrics, would keep them
+    /// twice). Only a batch whose outcome is unknown (a lost response, a crash) is sent again; its points have the
+    /// same keys, so InfluxDB overwrites them.
     /// </remarks>
     public async Task RunAsync(CancellationToken cancellationToken)
     {
         int limit = _options.MaxInFlight;
         long after = long.MinValue;
-        var inFlight = new Queue<(long LastId, int Count, Task Send)>(limit);
+        var inFlight = new Queue<(long FirstId, long LastId, int Count, Task Send)>(limit);
+
+        // Batches the server accepted after an earlier one failed: held until that one is accepted, never sent again.
+        var taken = new List<(long FirstId, long LastId)>();
         try
         {
             while (!cancellationToken.IsCancellationRequested)
@@ -127,15 +133,20 @@ public sealed partial class OutboxForwarder
                         break;
                     }
 
-                    var lines = new string[batch.Count];
-                    for (int i = 0; i < batch.Count; i++)
+                    var lines = new List<string>(batch.Count);
+                    foreach (OutboxEntry entry in batch)
                     {
-                        lines[i] = batch[i].Line;
+                        if (!Taken(taken, entry.Id))
+                        {
+                            lines.Add(entry.Line);
+                        }
                     }
 
-                    Task send = _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).AsTask();
+                    Task send = lines.Count == 0
+                        ? Task.CompletedTask
+                        : _pipeline.ExecuteAsync(static (state, token) => new ValueTask(state.Writer.WriteAsync(state.Lines, token)), (Writer: _writer, Lines: lines), cancellationToken).AsTask();
                     after = batch[^1].Id;
-                    inFlight.Enqueue((after, batch.Count, send));
+                    inFlight.Enqueue((batch[0].Id, after, batch.Count, send));
                 }
 
                 if (inFlight.Count == 0)
@@ -145,7 +156,7 @@ public sealed partial class OutboxForwarder
                     continue;
                 }
 
-                (long lastId, int count, Task oldest) = inFlight.Dequeue();
+                (_, long lastId, int count, Task oldest) = inFlight.Dequeue();
                 try
                 {
                     await oldest.ConfigureAwait(false);
@@ -163,8 +174,8 @@ public sealed partial class OutboxForwarder
                     }
 
                     // The later requests are not removed whatever their outcome: everything after the last removed
-                    // batch is read again.
-                    await DrainAsync(inFlight).ConfigureAwait(false);
+                    // batch is read again, and what the server took meanwhile is left out when it is sent again.
+                    taken.AddRange(await DrainAsync(inFlight).ConfigureAwait(false));
                     after = long.MinValue;
                     LogForwardFailed(_logger, count, _outbox.PendingRecords, e.Message);
                     SetState(e is BrokenCircuitException ? ForwarderState.CircuitOpen : ForwarderState.Failing);
@@ -173,6 +184,7 @@ public sealed partial class OutboxForwarder
                 }
 
                 _outbox.Remove(lastId);
+                taken.RemoveAll(t => t.LastId <= lastId);
                 Interlocked.Add(ref _forwarded, count);
                 bool recovered;
                 lock (_gate)
@@ -193,23 +205,41 @@ public sealed partial class OutboxForwarder
         finally
         {
             // Stopping: the requests still in flight end with the token; what they carried stays in the outbox.
-            await DrainAsync(inFlight).ConfigureAwait(false);
+            _ = await DrainAsync(inFlight).ConfigureAwait(false);
         }
     }
 
-    private static async Task DrainAsync(Queue<(long LastId, int Count, Task Send)> inFlight)
+    /// <summary>Awaits the requests still in flight and returns the id ranges of the batches the server accepted.</summary>
+    private static async Task<List<(long FirstId, long LastId)>> DrainAsync(Queue<(long FirstId, long LastId, int Count, Task Send)> inFlight)
     {
+        var accepted = new List<(long FirstId, long LastId)>();
         while (inFlight.TryDequeue(out var pending))
         {
             try
             {
                 await pending.Send.ConfigureAwait(false);
+                accepted.Add((pending.FirstId, pending.LastId));
             }
             catch (Exception)
             {
                 // Its points stay in the outbox and are sent again.
             }
         }
+
+        return accepted;
+    }
+
+    private static bool Taken(List<(long FirstId, long LastId)> taken, long id)
+    {
+        foreach ((long first, long last) in taken)
+        {
+            if (id >= first && id <= last)
+            {
+                return true;
+            }
+        }
+
+        return false;
     }
 
     private void Wake()

@@ -9,7 +9,8 @@ namespace Tieflow.Service.Tests.Hosting;
 
 /// <summary>
 /// Crash safety of the InfluxDB kind of store: <c>tieflow run</c> with the outbox in front of a real server
-/// (victoria-metrics on loopback) killed with SIGKILL three times while it writes, then run once more and stopped
+/// (victoria-metrics on loopback) killed with SIGKILL while it writes, three times in CI and <c>TIEFLOW_SOAK_KILLS</c>
+/// times in the soak (<c>eng/soak/reliability.sh kills</c>), then run once more and stopped
 /// cleanly. What is acknowledged is what the outbox committed: after each kill every point acknowledged so far is
 /// either on the server or still in the outbox, and at the end every one is on the server, once as a distinct point.
 /// A point is keyed by series (measurement, field, tags) and timestamp and is idempotent by that key: a batch that the
@@ -21,7 +22,7 @@ namespace Tieflow.Service.Tests.Hosting;
 [Trait("Category", "Slow")]
 public sealed partial class InfluxRunCrashTests : IDisposable
 {
-    private const int Kills = 3;
+    private static readonly int Kills = SoakSize.Of("TIEFLOW_SOAK_KILLS", 3);
     private static readonly TimeSpan Patience = TimeSpan.FromSeconds(180);
     private readonly TempFolder _folder = new();
     private readonly VictoriaMetricsServer _server = new();
@@ -40,18 +41,21 @@ public sealed partial class InfluxRunCrashTests : IDisposable
     {
         string outbox = Path.Combine(_folder.Path, "outbox", "outbox.db");
         var acknowledged = new Dictionary<string, double>(StringComparer.Ordinal);
+        var clock = System.Diagnostics.Stopwatch.StartNew();
+        long peak = 0;
         for (int kill = 1; kill <= Kills; kill++)
         {
             using TieflowProcess run = Start();
             int target = (kill * 6) + 4;
             Assert.True(WaitForWindows(run, target, Patience), $"kill {kill}: fewer than {target} windows: {run.Output}\n{run.Error}");
+            peak = Math.Max(peak, SoakSize.PeakRssKib(run.Id) ?? 0);
             run.KillHard();
 
             // Acknowledged so far: what reached the server and what the outbox still holds.
             Dictionary<string, List<double>> exported = await _server.ExportAsync();
             Dictionary<string, double> pending = Pending(outbox);
             Assert.True(exported.Count + pending.Count > 0, $"kill {kill}: nothing acknowledged");
-            _log.WriteLine($"kill {kill}: {exported.Count} distinct points on the server ({exported.Values.Sum(v => v.Count)} raw samples), {pending.Count} in the outbox");
+            _log.WriteLine($"kill {kill}: {exported.Count} distinct points on the server ({exported.Values.Sum(v => v.Count)} raw samples), {pending.Count} in the outbox, plant time up to {Latest(exported.Keys.Concat(pending.Keys)):u}");
             var lost = acknowledged.Keys.Where(k => !exported.ContainsKey(k) && !pending.ContainsKey(k)).ToList();
             Assert.True(lost.Count == 0, $"kill {kill}: {lost.Count} acknowledged points neither on the server nor in the outbox, for example {string.Join("; ", lost.Take(5))}");
             foreach ((string key, double value) in pending.Concat(exported.Select(e => KeyValuePair.Create(e.Key, e.Value[0]))))
@@ -65,6 +69,7 @@ public sealed partial class InfluxRunCrashTests : IDisposable
         using (TieflowProcess last = Start())
         {
             Assert.True(WaitForWindows(last, 4, Patience), $"last run: {last.Output}\n{last.Error}");
+            peak = Math.Max(peak, SoakSize.PeakRssKib(last.Id) ?? 0);
             last.Terminate();
             Assert.Equal(0, last.WaitForExit(Patience));
         }
@@ -83,7 +88,7 @@ public sealed partial class InfluxRunCrashTests : IDisposable
         }
 
         int raw = final.Values.Sum(v => v.Count);
-        _log.WriteLine($"at the end: {final.Count} distinct points on the server ({raw} raw samples), {acknowledged.Count} acknowledged before the last run");
+        _log.WriteLine($"at the end, {Kills} kills and a clean stop in {clock.Elapsed.TotalSeconds:F0} s: {final.Count} distinct points on the server ({raw} raw samples), {acknowledged.Count} acknowledged before the last run, none missing, none of a different value, monitor peak RSS {peak / 1024} MB");
         Assert.True(final.Count >= acknowledged.Count && raw >= final.Count, $"{final.Count} distinct points, {raw} raw samples, {acknowledged.Count} acknowledged");
     }
 
@@ -92,6 +97,10 @@ public sealed partial class InfluxRunCrashTests : IDisposable
         new Dictionary<string, string> { ["TIEFLOW_INFLUX_TOKEN"] = "test-token" },
         "run", "--Tieflow:Source:Speed=20000", "--Tieflow:Health:Enabled=false", "--Tieflow:Store:Kind=influxdb", $"--Tieflow:Store:Url={_server.Url}",
         "--Tieflow:Store:Org=brackenmoor", "--Tieflow:Store:Bucket=tieflow", "--Tieflow:Store:OutboxPath=outbox/outbox.db");
+
+    /// <summary>The latest time of the points keyed "...@ms".</summary>
+    private static DateTimeOffset Latest(IEnumerable<string> keys) =>
+        DateTimeOffset.FromUnixTimeMilliseconds(keys.Select(k => long.Parse(k[(k.LastIndexOf('@') + 1)..], CultureInfo.InvariantCulture)).DefaultIfEmpty(0).Max());
 
     /// <summary>victoria-metrics keeps about 12 significant digits (tests/Tieflow.Storage.Tests/Influx/ExpectedSamples.cs).</summary>
     private static bool Same(double a, double b) => Math.Abs(a - b) <= 1e-11 * Math.Max(1.0, Math.Abs(a));

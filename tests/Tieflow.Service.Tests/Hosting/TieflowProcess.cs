@@ -39,6 +39,9 @@ internal sealed class TieflowProcess : IDisposable
         _process.BeginErrorReadLine();
     }
 
+    /// <summary>The process id.</summary>
+    public int Id => _process.Id;
+
     public string Output
     {
         get
