@@ -513,8 +513,8 @@ public sealed class UnitAnalyzer
         SolventBalance balance = SolventAccounting(final, byTag, rec.TotalAccumulation(_model.ComponentIds[2]));
         (double dissolved, double unaccounted, double unaccountedSigma) = (balance.Dissolved, balance.Unaccounted, balance.Sigma);
         _solventOnset.Add(end, unaccounted, unaccountedSigma, balance.Meter, balance.MeterSigma, balance.ExtractSolvent, balance.ExtractSolventSigma);
-        bool leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null)) || _solventMeterBias is not null;
-        bool analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
+        bool leaking = SolventBalanceOpen();
+        bool analyzerSuspect = AnyAnalyzerSuspect();
         bool driftSuppressed = keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect;
         if (!steady && trackerWindow is not null && _tracker!.Add(trackerWindow) is { } fit)
         {
@@ -531,9 +531,9 @@ public sealed class UnitAnalyzer
             // (or the solvent meter is found biased by the onset of the open balance), the flow meters whose balance it
             // opens are not suspects and the efficiencies it biases do not drift. Likewise while an analyzer is a
             // suspect instrument: the balances every efficiency rests on carry its error.
-            leaking = _alerts.IsActive(new AlertKey("solvent-loss", null, null)) || _solventMeterBias is not null;
+            leaking = SolventBalanceOpen();
             UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, output);
-            analyzerSuspect = _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
+            analyzerSuspect = AnyAnalyzerSuspect();
             UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect, output);
         }
 
@@ -619,8 +619,7 @@ public sealed class UnitAnalyzer
         double longSpan = (AccumulationTrendPoints - 1 + 0.01) * _settings.WindowLength.TotalHours;
         for (int k = 1; k <= _unit.Stages; k++)
         {
-            QuantityKey key = QuantityKey.FractionOf(_model.StreamId(UnitStream.RaffinateOf(k)), _soluteId);
-            WindowMeasurement? m = byTag.Values.FirstOrDefault(w => w.Key == key && _model.Binding(w.Tag)!.Instrument.IsAnalyzer);
+            WindowMeasurement? m = AnalyzerOf(UnitStream.RaffinateOf(k), byTag);
             if (m is null)
             {
                 _trend.Forget(k);
@@ -1012,25 +1011,33 @@ public sealed class UnitAnalyzer
         var raffinate = new EstimatedValue?[_unit.Stages];
         for (int k = 1; k <= _unit.Stages; k++)
         {
-            raffinate[k - 1] = AnalyzerOf(UnitStream.RaffinateOf(k), byTag);
+            raffinate[k - 1] = AnalyzerOf(UnitStream.RaffinateOf(k), byTag) is { } m ? new EstimatedValue(m.Value, m.Sigma) : null;
         }
 
-        return new TrackerWindow(feed, solvent, temperature, raffinate, AnalyzerOf(_unit.FinalExtract, byTag));
+        EstimatedValue? extract = AnalyzerOf(_unit.FinalExtract, byTag) is { } e ? new EstimatedValue(e.Value, e.Sigma) : null;
+        return new TrackerWindow(feed, solvent, temperature, raffinate, extract);
     }
 
-    private EstimatedValue? AnalyzerOf(UnitStream stream, Dictionary<string, WindowMeasurement> byTag)
+    // The window mean of the analyzer of a stream's solute, if it has one and it passed the signal checks.
+    private WindowMeasurement? AnalyzerOf(UnitStream stream, Dictionary<string, WindowMeasurement> byTag)
     {
         QuantityKey key = QuantityKey.FractionOf(_model.StreamId(stream), _soluteId);
         foreach (WindowMeasurement w in byTag.Values)
         {
             if (w.Key == key && _model.Binding(w.Tag)!.Instrument.IsAnalyzer)
             {
-                return new EstimatedValue(w.Value, w.Sigma);
+                return w;
             }
         }
 
         return null;
     }
+
+    // The solvent balance is open: a loss is raised, or the solvent meter was found biased by the onset test.
+    private bool SolventBalanceOpen() => _alerts.IsActive(new AlertKey("solvent-loss", null, null)) || _solventMeterBias is not null;
+
+    // An analyzer is a suspect instrument: every balance carries its error.
+    private bool AnyAnalyzerSuspect() => _checkers.Keys.Any(t => _model.Binding(t)!.Instrument.Quantity == InstrumentQuantity.Fraction && _alerts.IsActive(new AlertKey("suspect-instrument", null, t)));
 
     /// <summary>
     /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
