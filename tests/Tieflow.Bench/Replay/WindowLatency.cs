@@ -22,6 +22,9 @@ internal static class WindowLatency
 {
     public const double TargetMilliseconds = 1.0;
 
+    // Bytes allocated by the readings that close each unit's windows, in the last measurement.
+    private static readonly Dictionary<string, long> AllocatedBytes = new(StringComparer.Ordinal);
+
     public static int Run(string which)
     {
         string root = BenchPaths.Root();
@@ -38,7 +41,7 @@ internal static class WindowLatency
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{which}: {samples.Samples.Count:N0} readings, {plantWindows.Count} windows of the plant"));
         foreach ((string unit, List<double> ms) in byUnit)
         {
-            Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  {unit,-6} wall {Stats(ms)}"));
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  {unit,-6} wall {Stats(ms)}; {AllocatedBytes[unit] / 1024.0 / ms.Count:F0} KiB allocated per window"));
         }
 
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  plant  wall {Stats(plantWindows)}"));
@@ -74,6 +77,7 @@ internal static class WindowLatency
         }
 
         var byUnit = analyzers.ToDictionary(a => a.Model.Unit.Id, _ => new List<double>());
+        AllocatedBytes.Clear();
         var output = new List<MonitorRecord>();
         var cpu = new List<double>();
         DateTimeOffset groupTime = DateTimeOffset.MinValue;
@@ -93,12 +97,14 @@ internal static class WindowLatency
             }
 
             UnitAnalyzer a = byTag[s.Tag];
+            long bytes = GC.GetAllocatedBytesForCurrentThread();
             long t0 = Stopwatch.GetTimestamp();
             a.Add(s, output);
             long t1 = Stopwatch.GetTimestamp();
             if (output.Count > 0)
             {
                 byUnit[a.Model.Unit.Id].Add(Stopwatch.GetElapsedTime(t0, t1).TotalMilliseconds);
+                AllocatedBytes[a.Model.Unit.Id] = AllocatedBytes.GetValueOrDefault(a.Model.Unit.Id) + (GC.GetAllocatedBytesForCurrentThread() - bytes);
                 output.Clear();
                 groupCloses = true;
             }

@@ -1,4 +1,3 @@
-using System.Numerics;
 using MathNet.Numerics.Distributions;
 using Tieflow.Core.Plant;
 
@@ -26,6 +25,13 @@ public sealed class SignalChecker
     private double _pendingSpike;
     private double _pendingSpikeValue;
     private SignalQuality _lastQuality = SignalQuality.Good;
+
+    // Running sums of the recent values less a shift (a recent value, so that the sums do not cancel), for the frozen
+    // test's spread; summed afresh every time the history has turned over once, so that rounding cannot accumulate.
+    private double _shift = double.NaN;
+    private double _shiftedSum;
+    private double _shiftedSquares;
+    private int _sinceExact;
 
     /// <summary>Creates the checker of one instrument.</summary>
     /// <param name="instrument">The instrument (sigma and range in its engineering unit).</param>
@@ -83,14 +89,13 @@ public sealed class SignalChecker
             // same side are a real change of level (a process step), and the history restarts from them.
             if (_pendingSpike != 0 && Math.Sign(side) == Math.Sign(_pendingSpike))
             {
-                _count = 0;
-                _next = 0;
-                _recent[_next] = _pendingSpikeValue;
+                _recent[0] = _pendingSpikeValue;
                 _next = 1;
                 _count = 1;
                 _sorted[0] = _pendingSpikeValue;
                 _sortedCount = 1;
                 _pendingSpike = 0;
+                RestartSums(_pendingSpikeValue);
             }
             else
             {
@@ -106,10 +111,16 @@ public sealed class SignalChecker
 
         if (_count == _recent.Length)
         {
-            RemoveSorted(_recent[_next]);
+            double leaving = _recent[_next];
+            ReplaceSorted(leaving, sample.Value);
+            Slide(leaving, sample.Value);
+        }
+        else
+        {
+            InsertSorted(sample.Value);
+            Slide(double.NaN, sample.Value);
         }
 
-        InsertSorted(sample.Value);
         _recent[_next] = sample.Value;
         _next = (_next + 1) % _recent.Length;
         _count = Math.Min(_count + 1, _recent.Length);
@@ -162,22 +173,20 @@ public sealed class SignalChecker
             return false;
         }
 
-        // A quick sum of squares in another order of summation (vectors) differs from the loops below by rounding
-        // only, far less than the margin; the loops decide only a spread that close to the limit.
-        if (_recent.Length >= 16 && Vector.IsHardwareAccelerated)
+        // The running sums give the spread to within rounding, far less than the margin; the exact loops below decide
+        // only a spread that close to the limit.
+        int n = _recent.Length;
+        double running = _shiftedSquares - (_shiftedSum * _shiftedSum / n);
+        double limit = _frozenCritical * sigma * sigma;
+        double margin = (1e-9 * limit) + (1e-12 * _shiftedSquares);
+        if (running > limit + margin)
         {
-            (double quick, double squares) = QuickSumOfSquares(_recent);
-            double limit = _frozenCritical * sigma * sigma;
-            double margin = (1e-9 * limit) + (1e-12 * squares);
-            if (quick > limit + margin)
-            {
-                return false;
-            }
+            return false;
+        }
 
-            if (quick < limit - margin)
-            {
-                return true;
-            }
+        if (running < limit - margin)
+        {
+            return true;
         }
 
         double mean = 0;
@@ -195,45 +204,6 @@ public sealed class SignalChecker
         }
 
         return ss / (sigma * sigma) < _frozenCritical;
-    }
-
-    /// <summary>The sum of squared deviations from the mean and the sum of squares of the values, summed by vectors.</summary>
-    private static (double Deviations, double Squares) QuickSumOfSquares(double[] values)
-    {
-        ReadOnlySpan<double> span = values;
-        int width = Vector<double>.Count, whole = span.Length - (span.Length % width);
-        var sum = Vector<double>.Zero;
-        for (int i = 0; i < whole; i += width)
-        {
-            sum += new Vector<double>(span[i..]);
-        }
-
-        double total = Vector.Sum(sum);
-        for (int i = whole; i < span.Length; i++)
-        {
-            total += span[i];
-        }
-
-        double mean = total / span.Length;
-        var m = new Vector<double>(mean);
-        Vector<double> deviations = Vector<double>.Zero, squares = Vector<double>.Zero;
-        for (int i = 0; i < whole; i += width)
-        {
-            var v = new Vector<double>(span[i..]);
-            Vector<double> d = v - m;
-            deviations += d * d;
-            squares += v * v;
-        }
-
-        double ss = Vector.Sum(deviations), sq = Vector.Sum(squares);
-        for (int i = whole; i < span.Length; i++)
-        {
-            double d = span[i] - mean;
-            ss += d * d;
-            sq += span[i] * span[i];
-        }
-
-        return (ss, sq);
     }
 
     private bool IsSpike(double value, out double side)
@@ -277,14 +247,15 @@ public sealed class SignalChecker
         _sortedCount++;
     }
 
-    private void RemoveSorted(double value)
+    private void ReplaceSorted(double leaving, double value)
     {
-        // The first element not below the value: the value itself, which is always there.
+        // The leaving value's place (the first element not below it: the value itself, which is always there), then the
+        // elements between it and the new value's place moved by one: the same order as removing and inserting.
         int lo = 0, hi = _sortedCount;
         while (lo < hi)
         {
             int mid = (lo + hi) >>> 1;
-            if (_sorted[mid] < value)
+            if (_sorted[mid] < leaving)
             {
                 lo = mid + 1;
             }
@@ -294,8 +265,65 @@ public sealed class SignalChecker
             }
         }
 
-        Array.Copy(_sorted, lo + 1, _sorted, lo, _sortedCount - lo - 1);
-        _sortedCount--;
+        int at = lo;
+        while (at + 1 < _sortedCount && _sorted[at + 1] < value)
+        {
+            _sorted[at] = _sorted[at + 1];
+            at++;
+        }
+
+        while (at > 0 && _sorted[at - 1] > value)
+        {
+            _sorted[at] = _sorted[at - 1];
+            at--;
+        }
+
+        _sorted[at] = value;
+    }
+
+    /// <summary>Updates the running sums for a value leaving the history (NaN for none) and one entering.</summary>
+    private void Slide(double leaving, double entering)
+    {
+        if (double.IsNaN(_shift))
+        {
+            RestartSums(entering);
+            return;
+        }
+
+        double e = entering - _shift;
+        _shiftedSum += e;
+        _shiftedSquares += e * e;
+        if (!double.IsNaN(leaving))
+        {
+            double l = leaving - _shift;
+            _shiftedSum -= l;
+            _shiftedSquares -= l * l;
+            if (++_sinceExact >= _recent.Length)
+            {
+                // The history has turned over: the sums afresh about its current middle (the entering value is in the
+                // history from here on, the leaving one no longer).
+                _recent[_next] = entering;
+                _shift = _sorted[_sortedCount / 2];
+                _shiftedSum = 0;
+                _shiftedSquares = 0;
+                for (int i = 0; i < _recent.Length; i++)
+                {
+                    double d = _recent[i] - _shift;
+                    _shiftedSum += d;
+                    _shiftedSquares += d * d;
+                }
+
+                _sinceExact = 0;
+            }
+        }
+    }
+
+    private void RestartSums(double first)
+    {
+        _shift = first;
+        _shiftedSum = 0;
+        _shiftedSquares = 0;
+        _sinceExact = 0;
     }
 
     private static double Median(double[] sorted)
