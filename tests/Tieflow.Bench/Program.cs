@@ -32,7 +32,8 @@ public static class Program
             await Storage.ForwardingProbe.RunAsync(
                 args.Length > 1 ? int.Parse(args[1], CultureInfo.InvariantCulture) : 300_000,
                 args.Length > 2 ? int.Parse(args[2], CultureInfo.InvariantCulture) : 5000,
-                args.Length > 3 ? int.Parse(args[3], CultureInfo.InvariantCulture) : new Tieflow.Storage.Outbox.OutboxForwarderOptions().MaxInFlight);
+                args.Length > 3 ? int.Parse(args[3], CultureInfo.InvariantCulture) : new Tieflow.Storage.Outbox.OutboxForwarderOptions().MaxInFlight,
+                args.Length <= 4 || args[4] switch { "gzip" => true, "nogzip" => false, _ => throw new ArgumentException($"forward: expected gzip or nogzip, found '{args[4]}'") });
             return 0;
         }
 

@@ -94,6 +94,9 @@ internal static class SettingsKeys
     /// <summary>InfluxDB: the most bytes the outbox may hold.</summary>
     public const string StoreOutboxMaxBytes = "Tieflow:Store:OutboxMaxBytes";
 
+    /// <summary>InfluxDB: compress the write requests (gzip).</summary>
+    public const string StoreGzip = "Tieflow:Store:Gzip";
+
     /// <summary>Also store the validated samples (<c>tieflow_signal</c>).</summary>
     public const string StoreWriteSignals = "Tieflow:Store:WriteSignals";
 
@@ -111,7 +114,7 @@ internal static class SettingsKeys
         SourceKeepAliveInterval, SourceConnectRetryDelay, SourceConnectRetryMaxDelay, SourceConnectAttempts, SourceRequireAllNodes,
         SourceScenario, SourceSpeed,
         LabsFolder, LabsPollInterval, LabsSettleTime,
-        StoreKind, StorePath, StoreUrl, StoreOrg, StoreBucket, StoreOutboxPath, StoreOutboxMaxBytes, StoreWriteSignals,
+        StoreKind, StorePath, StoreUrl, StoreOrg, StoreBucket, StoreOutboxPath, StoreOutboxMaxBytes, StoreGzip, StoreWriteSignals,
     ];
 
     /// <summary>Environment variables that carry secrets rather than settings.</summary>

@@ -57,6 +57,7 @@ internal static class SettingsShape
             ["Bucket"] = ValueType.Text,
             ["OutboxPath"] = ValueType.Text,
             ["OutboxMaxBytes"] = ValueType.Integer,
+            ["Gzip"] = ValueType.Boolean,
             ["WriteSignals"] = ValueType.Boolean,
         },
         ["Health"] = new Dictionary<string, object>(StringComparer.OrdinalIgnoreCase)

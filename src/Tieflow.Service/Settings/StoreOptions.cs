@@ -39,6 +39,9 @@ internal sealed class StoreOptions
     /// <summary><c>OutboxMaxBytes</c>: the outbox's size limit in bytes (influxdb); 256 MiB when absent.</summary>
     public long? OutboxMaxBytes { get; set; }
 
+    /// <summary><c>Gzip</c>: compress the write requests to InfluxDB (influxdb); true when absent.</summary>
+    public bool Gzip { get; set; } = true;
+
     /// <summary><c>WriteSignals</c>: also write every validated sample (<c>tieflow_signal</c>).</summary>
     public bool WriteSignals { get; set; }
 }

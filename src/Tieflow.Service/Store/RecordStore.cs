@@ -53,9 +53,9 @@ internal sealed class RecordStore : IAsyncDisposable
             string outboxPath = settings.Resolve(options.OutboxPath!);
             CreateFolderOf(outboxPath);
             var outbox = new Outbox(new OutboxOptions { Path = outboxPath, Site = site, MaxBytes = options.OutboxMaxBytes ?? 256L * 1024 * 1024 });
-            var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = options.Url!, Org = options.Org!, Bucket = options.Bucket!, Token = settings.Secret(StoreOptions.TokenVariable) ?? string.Empty });
+            var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = options.Url!, Org = options.Org!, Bucket = options.Bucket!, Token = settings.Secret(StoreOptions.TokenVariable) ?? string.Empty, Gzip = options.Gzip });
             var forwarder = new OutboxForwarder(outbox, writer, new OutboxForwarderOptions(), time, loggerFactory);
-            return new RecordStore(StoreOptions.InfluxDb, $"{options.Url} (org {options.Org}, bucket {options.Bucket}; outbox {outboxPath})", new OutboxSink(outbox), time, outbox, forwarder, writer);
+            return new RecordStore(StoreOptions.InfluxDb, $"{options.Url} (org {options.Org}, bucket {options.Bucket}{(options.Gzip ? string.Empty : ", no gzip")}; outbox {outboxPath})", new OutboxSink(outbox), time, outbox, forwarder, writer);
         }
 
         string path = options.Path is null ? Path.GetFullPath(StoreOptions.DefaultPath, settings.WorkingDirectory) : settings.Resolve(options.Path);

@@ -26,6 +26,13 @@ public sealed class Outbox : IDisposable
     private readonly SqliteParameter _expendable;
     private readonly SqliteParameter _bytes;
     private readonly SqliteParameter _unit;
+    private readonly SqliteCommand _peek;
+    private readonly SqliteParameter _peekAfter;
+    private readonly SqliteParameter _peekCount;
+    private readonly SqliteCommand _sum;
+    private readonly SqliteParameter _sumThrough;
+    private readonly SqliteCommand _delete;
+    private readonly SqliteParameter _deleteThrough;
     private readonly Lock _gate = new();
     private readonly HashSet<string> _sheddingUnits = new(StringComparer.Ordinal);
     private TaskCompletionSource _removed = NewSignal();
@@ -57,6 +64,21 @@ public sealed class Outbox : IDisposable
             _bytes = _insert.Parameters.Add("$b", SqliteType.Integer);
             _unit = _insert.Parameters.Add("$u", SqliteType.Text);
             _insert.Prepare();
+
+            // The forwarder's statements, compiled once: read a batch, and sum and remove what was forwarded.
+            _peek = _connection.CreateCommand();
+            _peek.CommandText = "SELECT id, line FROM outbox WHERE id > $after ORDER BY id LIMIT $n;";
+            _peekAfter = _peek.Parameters.Add("$after", SqliteType.Integer);
+            _peekCount = _peek.Parameters.Add("$n", SqliteType.Integer);
+            _peek.Prepare();
+            _sum = _connection.CreateCommand();
+            _sum.CommandText = "SELECT count(*), coalesce(sum(bytes), 0) FROM outbox WHERE id <= $id;";
+            _sumThrough = _sum.Parameters.Add("$id", SqliteType.Integer);
+            _sum.Prepare();
+            _delete = _connection.CreateCommand();
+            _delete.CommandText = "DELETE FROM outbox WHERE id <= $id;";
+            _deleteThrough = _delete.Parameters.Add("$id", SqliteType.Integer);
+            _delete.Prepare();
             _pendingRecords = SqliteSchema.Scalar(_connection, "SELECT count(*) FROM outbox;");
             _pendingBytes = SqliteSchema.Scalar(_connection, "SELECT coalesce(sum(bytes), 0) FROM outbox;");
             LoadMeta();
@@ -243,12 +265,10 @@ public sealed class Outbox : IDisposable
         lock (_gate)
         {
             ObjectDisposedException.ThrowIf(_disposed, this);
-            using SqliteCommand command = _connection.CreateCommand();
-            command.CommandText = "SELECT id, line FROM outbox WHERE id > $after ORDER BY id LIMIT $n;";
-            command.Parameters.AddWithValue("$n", max);
-            command.Parameters.AddWithValue("$after", afterId);
-            var result = new List<OutboxEntry>(Math.Min(max, 1024));
-            using SqliteDataReader r = command.ExecuteReader();
+            _peekCount.Value = max;
+            _peekAfter.Value = afterId;
+            var result = new List<OutboxEntry>(Math.Min(max, 8192));
+            using SqliteDataReader r = _peek.ExecuteReader();
             while (r.Read())
             {
                 result.Add(new OutboxEntry(r.GetInt64(0), r.GetString(1)));
@@ -272,24 +292,20 @@ public sealed class Outbox : IDisposable
             {
                 long count;
                 long bytes;
-                using (SqliteCommand sum = _connection.CreateCommand())
+                _sum.Transaction = transaction;
+                _sumThrough.Value = throughId;
+                using (SqliteDataReader r = _sum.ExecuteReader())
                 {
-                    sum.Transaction = transaction;
-                    sum.CommandText = "SELECT count(*), coalesce(sum(bytes), 0) FROM outbox WHERE id <= $id;";
-                    sum.Parameters.AddWithValue("$id", throughId);
-                    using SqliteDataReader r = sum.ExecuteReader();
                     r.Read();
                     count = r.GetInt64(0);
                     bytes = r.GetInt64(1);
                 }
 
-                using (SqliteCommand delete = _connection.CreateCommand())
-                {
-                    delete.Transaction = transaction;
-                    delete.CommandText = "DELETE FROM outbox WHERE id <= $id;";
-                    delete.Parameters.AddWithValue("$id", throughId);
-                    delete.ExecuteNonQuery();
-                }
+                _sum.Transaction = null;
+                _delete.Transaction = transaction;
+                _deleteThrough.Value = throughId;
+                _delete.ExecuteNonQuery();
+                _delete.Transaction = null;
 
                 long pendingBytes = _pendingBytes - bytes;
                 long pendingRecords = _pendingRecords - count;
@@ -364,6 +380,9 @@ public sealed class Outbox : IDisposable
 
             _disposed = true;
             _insert.Dispose();
+            _peek.Dispose();
+            _sum.Dispose();
+            _delete.Dispose();
             try
             {
                 SqliteSchema.Execute(_connection, "PRAGMA wal_checkpoint(TRUNCATE);");

@@ -12,12 +12,13 @@ namespace Tieflow.Bench.Storage;
 /// <summary>
 /// Target: the outbox forwards at least 100,000 points per second to victoria-metrics. Starts /usr/bin/victoria-metrics
 /// on a free loopback port with a temporary data folder, fills an outbox, times the forwarder draining it, and checks
-/// the count the server holds afterwards. <c>dotnet run -c Release --project tests/Tieflow.Bench -- forward 300000 [BATCH [IN-FLIGHT]]</c>; after the
-/// forwarding it also times the parts alone: reading the outbox, and the same batches written with and without gzip.
+/// the count the server holds afterwards. <c>dotnet run -c Release --project tests/Tieflow.Bench -- forward 300000 [BATCH [IN-FLIGHT [gzip|nogzip]]]</c>; after
+/// the forwarding it also times the parts alone: reading the outbox, reading and removing it batch by batch (no
+/// network), and the same batches written with and without gzip.
 /// </summary>
 internal static class ForwardingProbe
 {
-    public static async Task RunAsync(int count, int batchSize, int inFlight)
+    public static async Task RunAsync(int count, int batchSize, int inFlight, bool gzip = true)
     {
         string folder = Path.Combine(Path.GetTempPath(), "tieflow-forward-" + Guid.NewGuid().ToString("N")[..8]);
         Directory.CreateDirectory(folder);
@@ -86,7 +87,7 @@ internal static class ForwardingProbe
             me.Refresh();
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"outbox read alone: {count:N0} points in {read.Elapsed.TotalSeconds:F2} s ({count / read.Elapsed.TotalSeconds:N0}/s, CPU {(me.TotalProcessorTime - readCpu0).TotalSeconds:F2} s), {batches.Sum(b => b.Sum(l => (long)l.Length + 1)) / 1e6:F1} MB of line protocol"));
-            using var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = url, Org = "tieflow", Bucket = "tieflow" });
+            using var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = url, Org = "tieflow", Bucket = "tieflow", Gzip = gzip });
             var forwarder = new OutboxForwarder(outbox, writer, new OutboxForwarderOptions { BatchSize = batchSize, MaxInFlight = inFlight }, TimeProvider.System);
             using var cts = new CancellationTokenSource();
             using Process self = Process.GetCurrentProcess();
@@ -118,9 +119,31 @@ internal static class ForwardingProbe
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"outbox fill: {count:N0} records in {fill.Elapsed.TotalSeconds:F2} s ({count / fill.Elapsed.TotalSeconds:N0}/s)"));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"forwarding: {forwarder.Forwarded:N0} points in {clock.Elapsed.TotalSeconds:F2} s = {forwarder.Forwarded / clock.Elapsed.TotalSeconds:N0} points/s (batches of {batchSize}, {inFlight} in flight, gzip); failures {forwarder.Failures}; forwarder CPU {cpu.TotalSeconds:F2} s ({forwarder.Forwarded / cpu.TotalSeconds:N0} points per CPU second)"));
+                $"forwarding: {forwarder.Forwarded:N0} points in {clock.Elapsed.TotalSeconds:F2} s = {forwarder.Forwarded / clock.Elapsed.TotalSeconds:N0} points/s (batches of {batchSize}, {inFlight} in flight, {(gzip ? "gzip" : "no gzip")}); failures {forwarder.Failures}; forwarder CPU {cpu.TotalSeconds:F2} s ({forwarder.Forwarded / cpu.TotalSeconds:N0} points per CPU second)"));
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"server holds {samples:N0} tieflow_signal_value samples of {signals:N0} written (read back after {readBack.Elapsed.TotalSeconds:F1} s)"));
+            // Reading and removing batch by batch as the forwarder does, without the network: what the outbox costs.
+            using (var second = new StoreOutbox(new OutboxOptions { Path = Path.Combine(folder, "outbox2.db"), Site = "Brackenmoor", MaxBytes = 1L << 32 }))
+            {
+                foreach (MonitorRecord[] chunk in records.Chunk(10_000))
+                {
+                    second.Append(chunk);
+                }
+
+                self.Refresh();
+                TimeSpan drainCpu0 = self.TotalProcessorTime;
+                var drain = Stopwatch.StartNew();
+                for (IReadOnlyList<OutboxEntry> batch = second.Peek(batchSize); batch.Count > 0; batch = second.Peek(batchSize))
+                {
+                    second.Remove(batch[^1].Id);
+                }
+
+                drain.Stop();
+                self.Refresh();
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"outbox read and remove alone: {count:N0} points in {drain.Elapsed.TotalSeconds:F2} s ({count / drain.Elapsed.TotalSeconds:N0}/s, CPU {(self.TotalProcessorTime - drainCpu0).TotalSeconds:F2} s)"));
+            }
+
             foreach (bool zip in new[] { true, false })
             {
                 using var alone = new InfluxLineWriter(new InfluxWriterOptions { Url = url, Org = "tieflow", Bucket = "probe", Gzip = zip });

@@ -12,7 +12,7 @@ public sealed class SettingsSchemaTests
         { "Tieflow": { "Plant": "plant/site.plant.json",
             "Source": { "Kind": "opcua", "Endpoint": "opc.tcp://plant-server:4840", "User": "tieflow", "Security": "SignAndEncrypt:Aes256_Sha256_RsaPss", "Pki": "/var/lib/tieflow/pki" },
             "Labs": { "Folder": "/srv/lab-drop" },
-            "Store": { "Kind": "influxdb", "Url": "http://influx:8086", "Org": "site", "Bucket": "tieflow", "OutboxPath": "outbox.db", "OutboxMaxBytes": 104857600, "WriteSignals": true } } }
+            "Store": { "Kind": "influxdb", "Url": "http://influx:8086", "Org": "site", "Bucket": "tieflow", "OutboxPath": "outbox.db", "OutboxMaxBytes": 104857600, "Gzip": false, "WriteSignals": true } } }
         """)]
     [InlineData("""{ "Tieflow": { "Source": { "Kind": "simulator", "Scenario": "clean.scenario.json", "Speed": 60 }, "Store": { "Kind": "sqlite", "Path": "tieflow-data/tieflow.db" } } }""")]
     [InlineData("""{ "Tieflow": { "Units": ["X300"], "Health": { "Enabled": false, "Port": 0 } } }""")]
@@ -34,6 +34,7 @@ public sealed class SettingsSchemaTests
     [InlineData("""{ "Tieflow": { "Store": { "Kind": "postgres" } } }""")]
     [InlineData("""{ "Tieflow": { "Store": { "OutboxMaxBytes": 0 } } }""")]
     [InlineData("""{ "Tieflow": { "Store": { "WriteSignals": "yes" } } }""")]
+    [InlineData("""{ "Tieflow": { "Store": { "Gzip": "no" } } }""")]
     [InlineData("""{ "Tieflow": { "Store": { "Token": "abc" } } }""")]
     [InlineData("""{ "Tieflow": "plant.json" }""")]
     [InlineData("""{ "Tieflow": { "Units": "X300" } }""")]

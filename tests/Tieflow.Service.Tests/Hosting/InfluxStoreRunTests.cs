@@ -18,14 +18,21 @@ public sealed class InfluxStoreRunTests : IDisposable
         _folder.Dispose();
     }
 
-    [Fact]
-    public async Task Run_InfluxStore_RecordsReachTheServerWithSiteAndUnitTags()
+    [Theory]
+    [InlineData(null)]
+    [InlineData("false")]
+    public async Task Run_InfluxStore_RecordsReachTheServerWithSiteAndUnitTags(string? gzip)
     {
+        string[] arguments =
+        [
+            "--Tieflow:Source:Speed=100000", "--Tieflow:Store:Kind=influxdb", $"--Tieflow:Store:Url={_server.Url}",
+            "--Tieflow:Store:Org=brackenmoor", "--Tieflow:Store:Bucket=tieflow", "--Tieflow:Store:OutboxPath=outbox/outbox.db",
+            .. gzip is null ? Array.Empty<string>() : [$"--Tieflow:Store:Gzip={gzip}"],
+        ];
         long written = 0;
         MonitorStatus? final = null;
         HostRun run = HostRun.Of(
-            HostRun.Request(_folder.Path, "--Tieflow:Source:Speed=100000", "--Tieflow:Store:Kind=influxdb", $"--Tieflow:Store:Url={_server.Url}",
-                "--Tieflow:Store:Org=brackenmoor", "--Tieflow:Store:Bucket=tieflow", "--Tieflow:Store:OutboxPath=outbox/outbox.db") with
+            HostRun.Request(_folder.Path, arguments) with
             {
                 Environment = name => name == "TIEFLOW_INFLUX_TOKEN" ? "test-token" : null,
             },

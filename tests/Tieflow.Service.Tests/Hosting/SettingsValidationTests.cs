@@ -40,6 +40,7 @@ public sealed class SettingsValidationTests : IDisposable
             ["Tieflow:Source:Speed"] = "fast",
             ["Tieflow:Store:Kind"] = "influxdb",
             ["Tieflow:Store:OutboxMaxBytes"] = "12",
+            ["Tieflow:Store:Gzip"] = "sometimes",
             ["Tieflow:Store:WriteSignals"] = "yes",
             ["Tieflow:Health:Port"] = "70000",
             ["Tieflow:Units:0"] = "X300",
@@ -59,6 +60,7 @@ public sealed class SettingsValidationTests : IDisposable
             "Tieflow:Store:Bucket: missing",
             "Tieflow:Store:OutboxPath: missing",
             "Tieflow:Store:OutboxMaxBytes: expected at least 1048576",
+            "Tieflow:Store:Gzip: expected true or false, found 'sometimes'",
             "Tieflow:Store:WriteSignals: expected true or false, found 'yes'",
             "Tieflow:Store:Kind: the influxdb store needs its token in the environment variable TIEFLOW_INFLUX_TOKEN",
             "Tieflow:Health:Port: expected a port from 0",
@@ -125,6 +127,15 @@ public sealed class SettingsValidationTests : IDisposable
 
         Assert.Equal(2, run.ExitCode);
         Assert.Contains("error: Tieflow:Source:Speed: expected a factor above 0", run.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Run_GzipNotABoolean_Exit2NamingIt()
+    {
+        CliRun run = CliRun.Of("run", "--settings", Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.settings.json"), "--Tieflow:Store:Gzip=off", "--Tieflow:Health:Port=0");
+
+        Assert.Equal(2, run.ExitCode);
+        Assert.Contains("error: Tieflow:Store:Gzip: expected true or false, found 'off'", run.Error, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -11,10 +11,12 @@ public sealed class InfluxWriterTests : IDisposable
 
     public void Dispose() => _server.Dispose();
 
-    [Fact]
-    public async Task Records_arrive_with_the_contract_names_the_window_time_and_their_values()
+    [Theory]
+    [InlineData(true)]
+    [InlineData(false)]
+    public async Task Records_arrive_with_the_contract_names_the_window_time_and_their_values(bool gzip)
     {
-        using var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = _server.Url, Org = "tieflow", Bucket = "tieflow" });
+        using var writer = new InfluxLineWriter(new InfluxWriterOptions { Url = _server.Url, Org = "tieflow", Bucket = "tieflow", Gzip = gzip });
         await using var sink = new InfluxRecordSink(writer, Records.Site, batchSize: 700);
         List<MonitorRecord> records = Records.Mixed(3000);
         await sink.WriteAsync(records, CancellationToken.None);

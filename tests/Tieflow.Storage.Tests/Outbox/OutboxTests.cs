@@ -62,6 +62,57 @@ public sealed class OutboxTests : IDisposable
     }
 
     [Fact]
+    public void Batches_read_and_removed_in_turn_with_appends_and_shedding_between_keep_the_counts_exact_across_a_restart()
+    {
+        // The forwarder's statements are compiled once and used again and again; samples of a batch already read may
+        // be dropped by a full outbox before the batch is removed, and the removal must count only what was left.
+        List<MonitorRecord> records = Records.Mixed(6000);
+        long limit = Bytes(records.Take(2000)) / 2;
+        IReadOnlyList<string> Held(StoreOutbox o) => [.. o.Peek(100_000).Select(e => e.Line)];
+        long HeldBytes(StoreOutbox o) => Held(o).Sum(l => (long)System.Text.Encoding.UTF8.GetByteCount(l));
+        using (StoreOutbox outbox = Open(limit))
+        {
+            foreach (MonitorRecord[] chunk in records.Take(4000).Chunk(500))
+            {
+                IReadOnlyList<OutboxEntry> batch = outbox.Peek(300);
+                outbox.Append(chunk);
+                if (batch.Count > 0)
+                {
+                    outbox.Remove(batch[^1].Id);
+                }
+
+                Assert.Equal(Held(outbox).Count, outbox.PendingRecords);
+                Assert.Equal(HeldBytes(outbox), outbox.PendingBytes);
+            }
+
+            Assert.True(outbox.DroppedRecords > 0, "the outbox was meant to shed");
+        }
+
+        using StoreOutbox again = Open(limit);
+        Assert.Equal(Held(again).Count, again.PendingRecords);
+        Assert.Equal(HeldBytes(again), again.PendingBytes);
+        long previous = long.MinValue;
+        foreach (MonitorRecord[] chunk in records.Skip(4000).Chunk(500))
+        {
+            again.Append(chunk);
+            IReadOnlyList<OutboxEntry> batch = again.Peek(700);
+            Assert.True(batch[0].Id > previous, "removed points come back");
+            previous = batch[^1].Id;
+            again.Remove(previous);
+            Assert.Equal(Held(again).Count, again.PendingRecords);
+            Assert.Equal(HeldBytes(again), again.PendingBytes);
+        }
+
+        while (again.Peek(1000) is { Count: > 0 } rest)
+        {
+            again.Remove(rest[^1].Id);
+        }
+
+        Assert.Equal(0, again.PendingRecords);
+        Assert.Equal(0, again.PendingBytes);
+    }
+
+    [Fact]
     public void A_full_outbox_drops_the_oldest_signal_samples_first_keeps_analysis_records_and_alerts_and_raises_an_alert()
     {
         List<MonitorRecord> records = Records.Mixed(4000);
