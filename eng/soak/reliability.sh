@@ -8,7 +8,8 @@
 #             paced at TIEFLOW_SOAK_OUTAGE_RATE (500) records/s, 30 minutes; a rate of 0 writes as fast as it can
 #   restarts  the simulator serving OPC UA stopped and started again TIEFLOW_SOAK_RESTARTS (20) times under 'tieflow run'
 #   freezes   the simulator frozen (SIGSTOP, then SIGCONT) TIEFLOW_SOAK_FREEZES (5) times under 'tieflow run'
-#   kills     'tieflow run' killed with SIGKILL TIEFLOW_SOAK_KILLS (10) times, SQLite store and InfluxDB store with outbox
+#   kills     'tieflow run' killed with SIGKILL TIEFLOW_SOAK_KILLS (10) times, SQLite store and InfluxDB store with outbox,
+#             each kill a seeded random 0-500 ms after the window target (seed 9; TIEFLOW_SOAK_KILL_SEED for another)
 # Each of these variables may be set beforehand to run another size. The full logs stay in $TIEFLOW_SOAK_LOGS
 # (default: a new folder under /tmp, printed at the end).
 set -uo pipefail

@@ -10,9 +10,10 @@ namespace Tieflow.Service.Tests.Hosting;
 /// <summary>
 /// Crash safety of the InfluxDB kind of store: <c>tieflow run</c> with the outbox in front of a real server
 /// (victoria-metrics on loopback) killed with SIGKILL while it writes, three times in CI and <c>TIEFLOW_SOAK_KILLS</c>
-/// times in the soak (<c>eng/soak/reliability.sh kills</c>), then run once more and stopped
-/// cleanly. What is acknowledged is what the outbox committed: after each kill every point acknowledged so far is
-/// either on the server or still in the outbox, and at the end every one is on the server, once as a distinct point.
+/// times in the soak (<c>eng/soak/reliability.sh kills</c>), each kill a seeded random 0 to 500 ms after the run has
+/// written its windows (<see cref="KillDelays"/>), then run once more and stopped cleanly. What is acknowledged is
+/// what the outbox committed: after each kill every point acknowledged so far is either on the server or still in the
+/// outbox, and at the end every one is on the server, once as a distinct point.
 /// A point is keyed by series (measurement, field, tags) and timestamp and is idempotent by that key: a batch that the
 /// server took just before a kill is sent again by the next run, and a restarted run rewrites the same plant time
 /// from the scenario's start. victoria-metrics (without deduplication) keeps such a rewrite as a second raw sample of
@@ -43,11 +44,18 @@ public sealed partial class InfluxRunCrashTests : IDisposable
         var acknowledged = new Dictionary<string, double>(StringComparer.Ordinal);
         var clock = System.Diagnostics.Stopwatch.StartNew();
         long peak = 0;
+        KillDelays delays = KillDelays.FromEnvironment();
+        _log.WriteLine($"kill delays: seed {delays.Seed}, 0 to {KillDelays.Longest.TotalMilliseconds:F0} ms after the window target");
         for (int kill = 1; kill <= Kills; kill++)
         {
+            // Killed once it has written a few windows, after a seeded extra wait: the kills land at different phases of
+            // the outbox's appends and of the forwarder's sends and removals.
             using TieflowProcess run = Start();
             int target = (kill * 6) + 4;
             Assert.True(WaitForWindows(run, target, Patience), $"kill {kill}: fewer than {target} windows: {run.Output}\n{run.Error}");
+            TimeSpan delay = delays.Next();
+            await Task.Delay(delay);
+            Assert.False(run.HasExited, $"kill {kill}: the run ended before the kill: {run.Output}\n{run.Error}");
             peak = Math.Max(peak, SoakSize.PeakRssKib(run.Id) ?? 0);
             run.KillHard();
 
@@ -55,7 +63,7 @@ public sealed partial class InfluxRunCrashTests : IDisposable
             Dictionary<string, List<double>> exported = await _server.ExportAsync();
             Dictionary<string, double> pending = Pending(outbox);
             Assert.True(exported.Count + pending.Count > 0, $"kill {kill}: nothing acknowledged");
-            _log.WriteLine($"kill {kill}: {exported.Count} distinct points on the server ({exported.Values.Sum(v => v.Count)} raw samples), {pending.Count} in the outbox, plant time up to {Latest(exported.Keys.Concat(pending.Keys)):u}");
+            _log.WriteLine($"kill {kill}, {delay.TotalMilliseconds:F0} ms after the window target: {exported.Count} distinct points on the server ({exported.Values.Sum(v => v.Count)} raw samples), {pending.Count} in the outbox, plant time up to {Latest(exported.Keys.Concat(pending.Keys)):u}");
             var lost = acknowledged.Keys.Where(k => !exported.ContainsKey(k) && !pending.ContainsKey(k)).ToList();
             Assert.True(lost.Count == 0, $"kill {kill}: {lost.Count} acknowledged points neither on the server nor in the outbox, for example {string.Join("; ", lost.Take(5))}");
             foreach ((string key, double value) in pending.Concat(exported.Select(e => KeyValuePair.Create(e.Key, e.Value[0]))))

@@ -42,6 +42,9 @@ internal sealed class TieflowProcess : IDisposable
     /// <summary>The process id.</summary>
     public int Id => _process.Id;
 
+    /// <summary>Whether the process has ended.</summary>
+    public bool HasExited => _process.HasExited;
+
     public string Output
     {
         get
