@@ -30,11 +30,8 @@ internal static class PlantServerFaultRun
 
     public static async Task RunAsync(TempFolder folder, ITestOutputHelper log, string name, int faults, Func<string, int, Task<SimulatorProcess>> start, Fault fault)
     {
-        string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json").Replace("\\", "/", StringComparison.Ordinal);
-        string scenario = folder.Write("served.scenario.json", $$"""
-            { "plant": "{{plant}}", "start": "2026-03-02T00:00:00Z", "duration": "7.00:00:00", "step": "00:00:01", "seed": 5,
-              "faults": [], "lab": { "interval": "04:00:00", "delay": "01:30:00", "sigma": 0.0005 } }
-            """);
+        string plant = ServedScenario.Plant;
+        string scenario = ServedScenario.Write(folder, TimeSpan.FromDays(7));
         int port = SimulatorProcess.FreePort();
         string store = Path.Combine(folder.Path, "site.db");
         string settings = folder.Write("site.settings.json", $$"""

@@ -20,11 +20,8 @@ public sealed class RunOpcUaEndToEndTests : IDisposable
     [Fact]
     public async Task Run_OpcUaSourceAndLabFolder_StoresWindowsOfTheServedPlantAndProcessesTheLabFile()
     {
-        string plant = Path.Combine(RepositoryPaths.ConfigSamples, "brackenmoor.plant.json").Replace("\\", "/", StringComparison.Ordinal);
-        string scenario = _folder.Write("served.scenario.json", $$"""
-            { "plant": "{{plant}}", "start": "2026-03-02T00:00:00Z", "duration": "2.00:00:00", "step": "00:00:01", "seed": 5,
-              "faults": [], "lab": { "interval": "04:00:00", "delay": "01:30:00", "sigma": 0.0005 } }
-            """);
+        string plant = ServedScenario.Plant;
+        string scenario = ServedScenario.Write(_folder, TimeSpan.FromDays(2));
         int port = SimulatorProcess.FreePort();
         string labs = Path.Combine(_folder.Path, "lab-drop");
         Directory.CreateDirectory(labs);
