@@ -37,7 +37,7 @@ public sealed partial class DockerComposeTests
         foreach (string key in new[]
         {
             SettingsKeys.Plant, SettingsKeys.SourceKind, SettingsKeys.SourceEndpoint, SettingsKeys.StoreKind, SettingsKeys.StoreUrl,
-            SettingsKeys.StoreOrg, SettingsKeys.StoreBucket, SettingsKeys.StoreOutboxPath, SettingsKeys.StoreOutboxMaxBytes,
+            SettingsKeys.StoreOrg, SettingsKeys.StoreBucket, SettingsKeys.StoreOutboxPath, SettingsKeys.StoreOutboxMaxBytes, SettingsKeys.StoreGzip,
         })
         {
             Assert.True(given.ContainsKey(key), $"docker-compose.yml does not set {key} ({SettingsKeys.EnvironmentVariable(key)})");
@@ -47,6 +47,7 @@ public sealed partial class DockerComposeTests
         Assert.Equal("influxdb", given[SettingsKeys.StoreKind]);
         Assert.StartsWith("opc.tcp://plant:", given[SettingsKeys.SourceEndpoint], StringComparison.Ordinal);
         Assert.True(long.TryParse(given[SettingsKeys.StoreOutboxMaxBytes], out long bytes) && bytes > 0, given[SettingsKeys.StoreOutboxMaxBytes]);
+        Assert.True(bool.TryParse(given[SettingsKeys.StoreGzip], out _), $"{SettingsKeys.StoreGzip}: '{given[SettingsKeys.StoreGzip]}' is not true or false");
         Assert.Contains(variables, v => v.Name == SettingsKeys.InfluxTokenVariable);
 
         // The plant file lies in the image where the Dockerfile copies config-samples.

@@ -1,10 +1,11 @@
 using System.Reflection;
 using Tieflow.Service.Hosting;
+using Tieflow.Service.Settings;
 using Tieflow.Service.Sources;
 
 namespace Tieflow.Service.Tests.Hosting;
 
-/// <summary>The one list of settings keys: environment names, and that every option the sources bind has its key.</summary>
+/// <summary>The one list of settings keys: environment names, and that every option the sources and the store bind has its key.</summary>
 public sealed class SettingsKeysTests
 {
     [Theory]
@@ -35,6 +36,7 @@ public sealed class SettingsKeysTests
     [Theory]
     [InlineData(typeof(OpcUaSourceOptions), SettingsKeys.Source)]
     [InlineData(typeof(LabFolderOptions), SettingsKeys.Labs)]
+    [InlineData(typeof(StoreOptions), SettingsKeys.Store)]
     public void Options_EveryBoundProperty_HasItsKey(Type options, string section)
     {
         foreach (PropertyInfo p in options.GetProperties(BindingFlags.Public | BindingFlags.Instance).Where(p => p.CanWrite))
