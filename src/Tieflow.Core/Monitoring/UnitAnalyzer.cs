@@ -437,7 +437,7 @@ public sealed class UnitAnalyzer
         WindowReconciliation? rec = null;
         try
         {
-            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes) : null;
+            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes, steady) : null;
         }
         catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
         {
