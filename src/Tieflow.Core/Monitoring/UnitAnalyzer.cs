@@ -437,7 +437,7 @@ public sealed class UnitAnalyzer
         WindowReconciliation? rec = null;
         try
         {
-            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes) : null;
+            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes, steady) : null;
         }
         catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
         {
@@ -507,7 +507,7 @@ public sealed class UnitAnalyzer
         TrackerWindow? trackerWindow = _tracker is null ? null : TrackerWindowOf(feed, solvent, temperature, byTag);
         if (steady && trackerWindow is not null)
         {
-            _tracker!.AddSteady(trackerWindow, ModelEfficiencies());
+            _tracker!.AddSteady(trackerWindow, ModelEfficiencies(null).Values);
         }
 
         SolventBalance balance = SolventAccounting(final, byTag, rec.TotalAccumulation(_model.ComponentIds[2]));
@@ -516,11 +516,14 @@ public sealed class UnitAnalyzer
         bool leaking = SolventBalanceOpen();
         bool analyzerSuspect = AnyAnalyzerSuspect();
         bool driftSuppressed = keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect;
+        EstimatedValue?[]? current = null;
         if (!steady && trackerWindow is not null && _tracker!.Add(trackerWindow) is { } fit)
         {
             // Between steady windows the drift is judged on the dynamic model's fit over the last windows; the records
-            // keep the steady windows' efficiencies only.
+            // keep the steady windows' efficiencies only. The soft sensor and the spec-recovery advice use the fit too:
+            // it is the unit's efficiency now, where the last steady window's may be hours old.
             UpdateDrift(end, fit.Efficiencies, shared: _unit.Kind == UnitKind.Column, driftSuppressed, output, dynamic: true);
+            current = fit.Efficiencies;
         }
 
         if (steady)
@@ -537,7 +540,8 @@ public sealed class UnitAnalyzer
             UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect, output);
         }
 
-        (double steadyState, double softSigma) = SoftSensor(feed, solvent, temperature, steady);
+        (double[] modelEfficiencies, double[] modelSigmas) = ModelEfficiencies(current);
+        (double steadyState, double softSigma) = SoftSensor(feed, solvent, temperature, steady, modelEfficiencies, modelSigmas);
 
         // The cascade model gives the raffinate the unit will settle at; the hold-ups make the real one follow it with
         // a lag. A first-order lag with the train's residence time (total hold-up over total throughput) stands in for
@@ -563,7 +567,7 @@ public sealed class UnitAnalyzer
         double? needed = null;
         if (double.IsFinite(soft) && soft + softSigma > _unit.RaffinateSoluteSpec)
         {
-            needed = SolventToFeedNeeded(feed, solvent.Composition, temperature);
+            needed = SolventToFeedNeeded(feed, solvent.Composition, temperature, modelEfficiencies);
         }
 
         output.Add(new UnitRecord(_unit.Id, end, final.GlobalTest.Statistic, final.GlobalTest.Critical, steady, dissolved, unaccounted, needed));
@@ -1043,14 +1047,27 @@ public sealed class UnitAnalyzer
     /// The latest efficiencies as the cascade model takes them: an estimate may lie a little above 1 (or near 0) by
     /// noise, but a Murphree stage beyond equilibrium is not a stage the model can solve.
     /// </summary>
-    private double[] ModelEfficiencies() => [.. _lastEfficiency.Select(e => Math.Clamp(e, 0.02, 1))];
+    // The efficiencies the models run with: the last steady window's, or where given the dynamic fit of this window;
+    // with their sigmas (0.02 where none is known yet).
+    private (double[] Values, double[] Sigmas) ModelEfficiencies(EstimatedValue?[]? current)
+    {
+        double[] values = new double[_unit.Stages], sigmas = new double[_unit.Stages];
+        for (int k = 0; k < _unit.Stages; k++)
+        {
+            (double e, double s) = current?[k] is { } fit && double.IsFinite(fit.Value) ? (fit.Value, fit.Sigma) : (_lastEfficiency[k], _lastSigma[k]);
+            values[k] = Math.Clamp(e, 0.02, 1);
+            sigmas[k] = s > 0 && double.IsFinite(s) ? s : 0.02;
+        }
 
-    private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady)
+        return (values, sigmas);
+    }
+
+    private (double Value, double Sigma) SoftSensor(MaterialStream feed, MaterialStream solvent, double temperature, bool steady, double[] efficiencies, double[] sigmas)
     {
         try
         {
             var solver = new CascadeSolver(_unit.Equilibrium, temperature);
-            double[] eff = ModelEfficiencies();
+            double[] eff = [.. efficiencies];
             CascadeResult central = solver.Solve(_unit.Arrangement, feed, solvent, eff);
             double x = central.Raffinate.Composition.Solute;
 
@@ -1059,7 +1076,7 @@ public sealed class UnitAnalyzer
             double variance = 0;
             for (int k = 0; k < eff.Length; k++)
             {
-                double s = _lastSigma[k] > 0 ? _lastSigma[k] : 0.02;
+                double s = sigmas[k];
                 double saved = eff[k];
                 eff[k] = Math.Clamp(saved + s, 0.02, 1);
                 double up = eff[k] == saved ? x : solver.Solve(_unit.Arrangement, feed, solvent, eff, central).Raffinate.Composition.Solute;
@@ -1076,7 +1093,7 @@ public sealed class UnitAnalyzer
         }
     }
 
-    private double? SolventToFeedNeeded(MaterialStream feed, Ternary solventComposition, double temperature)
+    private double? SolventToFeedNeeded(MaterialStream feed, Ternary solventComposition, double temperature, double[] efficiencies)
     {
         try
         {
@@ -1086,7 +1103,7 @@ public sealed class UnitAnalyzer
                 return null;
             }
 
-            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), ModelEfficiencies());
+            DesignResult r = design.FindSolvent(feed, solventComposition, _unit.Stages, DesignTarget.RaffinateFraction(_unit.RaffinateSoluteSpec), efficiencies);
             return r.SolventFlow / feed.Flow;
         }
         catch (Exception e) when (e is InfeasibleSpecificationException or CascadeException or EquilibriumException or ArgumentException)

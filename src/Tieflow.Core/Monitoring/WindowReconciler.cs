@@ -48,8 +48,14 @@ public sealed class WindowReconciler
     /// <param name="raffinateSlopes">Per stage (index stage - 1) the trend dx/dt of the raffinate leaving it with its sigma,
     /// fraction per hour, or null: the stages' hold-ups then enter the balances with their accumulation
     /// (<see cref="HoldupAccumulation"/>), and the slope's sigma widens the efficiencies' sigma.</param>
+    /// <param name="steady">Whether the steady-state gate passed the window. A window that is still settling is reconciled
+    /// once with every instrument kept: its balances hold only as well as the estimated accumulation, so a failed global
+    /// test there says the unit is moving, not that one instrument is wrong, and no suspect is named. Its estimates'
+    /// sigmas are then scaled by the Birge ratio, max(1, sqrt(chi-square / degrees of freedom)), which makes the scatter
+    /// of the adjustments consistent with the sigmas (R. T. Birge, "The calculation of errors by the method of least
+    /// squares", Phys. Rev. 40 (1932) 207-227; from memory).</param>
     /// <exception cref="ReconciliationException">When the reconciliation does not converge.</exception>
-    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null, IReadOnlyList<(double Slope, double Sigma)?>? raffinateSlopes = null)
+    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null, IReadOnlyList<(double Slope, double Sigma)?>? raffinateSlopes = null, bool steady = true)
     {
         ArgumentNullException.ThrowIfNull(measurements);
         UnitDescription unit = _model.Unit;
@@ -136,7 +142,7 @@ public sealed class WindowReconciler
                 }
             }
 
-            report = _reconciler.Reconcile(all, accumulation);
+            report = _reconciler.Reconcile(all, accumulation, eliminate: steady);
             double moved = 0;
             foreach ((string id, _) in saturated)
             {
@@ -155,6 +161,13 @@ public sealed class WindowReconciler
             }
         }
 
+        double sigmaScale = 1;
+        if (!steady && report!.Final.GlobalTest is { DegreesOfFreedom: > 0 } test && test.Statistic > test.DegreesOfFreedom)
+        {
+            sigmaScale = Math.Sqrt(test.Statistic / test.DegreesOfFreedom);
+            report = report with { Final = Scaled(report.Final, sigmaScale) };
+        }
+
         var efficiencies = new List<StageEfficiency>(unit.Stages);
         for (int k = 1; k <= unit.Stages; k++)
         {
@@ -170,7 +183,18 @@ public sealed class WindowReconciler
             }
         }
 
-        return new WindowReconciliation(report, efficiencies, suspectTags, iteration, [.. saturated.Select(s => s.Id)], accumulation ?? []);
+        return new WindowReconciliation(report, efficiencies, suspectTags, iteration, [.. saturated.Select(s => s.Id)], accumulation ?? []) { SigmaScale = sigmaScale };
+    }
+
+    private static ReconciliationResult Scaled(ReconciliationResult r, double factor)
+    {
+        var estimates = new QuantityEstimate[r.Estimates.Count];
+        for (int i = 0; i < estimates.Length; i++)
+        {
+            estimates[i] = r.Estimates[i] with { Sigma = r.Estimates[i].Sigma * factor };
+        }
+
+        return r with { Estimates = estimates };
     }
 
     /// <summary>The raffinate-branch point with solute fraction x.</summary>

@@ -4,7 +4,7 @@ using Tieflow.Core.Reconciliation;
 namespace Tieflow.Core.Monitoring;
 
 /// <summary>The reconciliation of one window and what follows from it directly.</summary>
-/// <param name="Report">The reconciliation with serial elimination.</param>
+/// <param name="Report">The reconciliation, with serial elimination in a steady window.</param>
 /// <param name="Efficiencies">Per stage, stage 1 first.</param>
 /// <param name="SuspectTags">Tags of the measurements the serial elimination removed, in order.</param>
 /// <param name="EnvelopeIterations">Outer iterations that moved the phase-envelope conditions to the estimates.</param>
@@ -18,6 +18,12 @@ public sealed record WindowReconciliation(
     IReadOnlyList<string> SaturatedStreams,
     IReadOnlyList<NodeAccumulation> Accumulation)
 {
+    /// <summary>
+    /// The factor applied to the sigmas of <see cref="ReconciliationReport.Final"/>: the Birge ratio of a window that was
+    /// not steady and whose adjustments scatter more than its sigmas allow, else 1 (see <see cref="WindowReconciler.Reconcile"/>).
+    /// </summary>
+    public double SigmaScale { get; init; } = 1;
+
     /// <summary>The whole unit's rate of gain of one component, in the flow unit (zero at steady state).</summary>
     /// <param name="component">Component id.</param>
     public double TotalAccumulation(string component) => Accumulation.Where(a => a.Component == component).Sum(a => a.Rate);

@@ -44,16 +44,19 @@ public sealed class SerialEliminationReconciler
     /// </summary>
     /// <param name="measurements">The measurements (see <see cref="ReconciliationProblem.Create(ProcessNetwork, IReadOnlyList{Measurement}, ReconciliationOptions?)"/> for the rules).</param>
     /// <param name="accumulation">Known rates of accumulation of the nodes (<see cref="NodeAccumulation"/>); <see langword="null"/> for steady state.</param>
+    /// <param name="eliminate">Whether to search for gross errors; when <see langword="false"/> the measurements are
+    /// reconciled once, all of them kept, and the report names no suspects (for data whose model is known not to hold,
+    /// where a failed global test says nothing about any one instrument).</param>
     /// <exception cref="ArgumentException">A measurement or an accumulation is invalid; the message names it.</exception>
     /// <exception cref="ReconciliationException">The bilinear iteration did not converge.</exception>
-    public ReconciliationReport Reconcile(IReadOnlyList<Measurement> measurements, IReadOnlyList<NodeAccumulation>? accumulation = null)
+    public ReconciliationReport Reconcile(IReadOnlyList<Measurement> measurements, IReadOnlyList<NodeAccumulation>? accumulation = null, bool eliminate = true)
     {
         ArgumentNullException.ThrowIfNull(measurements);
         _accumulation = accumulation;
         ReconciliationResult initial = ReconcileOnce(measurements);
         var suspects = new List<QuantityKey>();
         ReconciliationResult current = initial;
-        if (!current.GlobalTest.Passed && current.MeasurementTests.Count > 0)
+        if (eliminate && !current.GlobalTest.Passed && current.MeasurementTests.Count > 0)
         {
             _remaining.Clear();
             _remaining.AddRange(measurements);

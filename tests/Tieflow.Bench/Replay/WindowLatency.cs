@@ -16,7 +16,8 @@ namespace Tieflow.Bench.Replay;
 /// triggers, by the wall clock per unit and by the thread's CPU time for the plant (the readings of one time stamp
 /// together, which adds a few microseconds of plain readings). Target: under 1 ms of CPU per window of the plant on
 /// average (by the wall clock where the thread's CPU time cannot be read).
-/// <c>dotnet run -c Release --project tests/Tieflow.Bench -- window [scenario]</c>; exit 1 above target.
+/// <c>dotnet run -c Release --project tests/Tieflow.Bench -- window [scenario | six-stage]</c>; exit 1 above target.
+/// <c>six-stage</c> runs a six-stage train (<see cref="SixStageTrain"/>) through the clean scenario's changes.
 /// </summary>
 internal static class WindowLatency
 {
@@ -28,7 +29,23 @@ internal static class WindowLatency
     public static int Run(string which)
     {
         string root = BenchPaths.Root();
-        Scenario scenario = ScenarioReader.Load(Path.Combine(root, "config-samples", "scenarios", which.EndsWith(".json", StringComparison.Ordinal) ? which : which + ".scenario.json"));
+        string temporary = Path.Combine(Path.GetTempPath(), "tieflow-bench-" + Guid.NewGuid().ToString("N"));
+        Directory.CreateDirectory(temporary);
+        try
+        {
+            string path = which == "six-stage"
+                ? SixStageTrain.Write(root, temporary)
+                : Path.Combine(root, "config-samples", "scenarios", which.EndsWith(".json", StringComparison.Ordinal) ? which : which + ".scenario.json");
+            return Run(which, ScenarioReader.Load(path));
+        }
+        finally
+        {
+            Directory.Delete(temporary, recursive: true);
+        }
+    }
+
+    private static int Run(string which, Scenario scenario)
+    {
         var samples = new Collector();
         var simulation = new PlantSimulation(scenario);
         while (!simulation.Finished)

@@ -74,6 +74,55 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         Assert.Equal("FI-301", Assert.Single(r.SuspectTags));
     }
 
+    [Fact]
+    public void ASettlingWindow_KeepsEveryInstrumentAndScalesItsSigmasByTheBirgeRatio()
+    {
+        // The same 12-sigma misfit in a window the steady-state gate did not pass: nothing is eliminated, and the sigmas
+        // of every estimate grow by sqrt(chi-square / dof) of the one reconciliation (Birge 1932, Phys. Rev. 40, 207).
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
+        var model = new UnitModel(unit);
+        List<WindowMeasurement> readings = [.. Readings(model, truth)];
+        int i = readings.FindIndex(m => m.Tag == "FI-301");
+        readings[i] = readings[i] with { Value = readings[i].Value + (12 * readings[i].Sigma) };
+        var reconciler = new WindowReconciler(model);
+
+        WindowReconciliation settling = reconciler.Reconcile(readings, 298.15, steady: false);
+        WindowReconciliation steady = reconciler.Reconcile(readings, 298.15);
+
+        GlobalTest test = settling.Report.Initial.GlobalTest;
+        output.WriteLine($"settling window: chi-square {test.Statistic:F1} on {test.DegreesOfFreedom} dof, sigma scale {settling.SigmaScale:F3}");
+        Assert.False(test.Passed);
+        Assert.Empty(settling.SuspectTags);
+        Assert.Empty(settling.Report.Suspects);
+        Assert.Equal(test, settling.Report.Final.GlobalTest);
+        Assert.Equal(Math.Sqrt(test.Statistic / test.DegreesOfFreedom), settling.SigmaScale, 1e-12);
+        for (int v = 0; v < settling.Report.Final.Estimates.Count; v++)
+        {
+            QuantityEstimate raw = settling.Report.Initial.Estimates[v], scaled = settling.Report.Final.Estimates[v];
+            Assert.Equal(raw.Value, scaled.Value);
+            Assert.Equal(raw.Sigma * settling.SigmaScale, scaled.Sigma, 1e-12 * Math.Max(1, raw.Sigma));
+        }
+
+        // The kept reconciler still names the meter in a steady window, with sigmas unscaled.
+        Assert.Equal("FI-301", Assert.Single(steady.SuspectTags));
+        Assert.Equal(1, steady.SigmaScale);
+    }
+
+    [Fact]
+    public void ASettlingWindowWhoseAdjustmentsFitTheirSigmas_KeepsItsSigmas()
+    {
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
+        var model = new UnitModel(unit);
+
+        WindowReconciliation r = new WindowReconciler(model).Reconcile(Readings(model, truth), 298.15, steady: false);
+
+        Assert.True(r.Report.Final.GlobalTest.Statistic <= r.Report.Final.GlobalTest.DegreesOfFreedom);
+        Assert.Equal(1, r.SigmaScale);
+        Assert.Equal(r.Report.Initial.Estimates, r.Report.Final.Estimates);
+    }
+
     /// <summary>Every instrument of the unit reading the solved cascade exactly, with the sigma of a 30-minute average.</summary>
     [Fact]
     public void OneReconcilerOverManyWindows_EqualsANewReconcilerPerWindow()
