@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
 # Installs tieflow for the current user: a framework-dependent Release build (needs the .NET 10 runtime) published
-# into PREFIX/share/tieflow, linked as PREFIX/bin/tieflow (and the simulated plant as PREFIX/bin/tieflow-sim).
+# into PREFIX/share/tieflow, started by PREFIX/bin/tieflow (and the simulated plant by PREFIX/bin/tieflow-sim): two small
+# launchers that set the garbage collector's young-generation budget (DOTNET_GCgen0size, docs/service.md#memory) unless
+# the environment already sets it.
 # PREFIX defaults to ~/.local.
 #   ./install.sh [--prefix DIR]      install or update
 #   ./install.sh --uninstall         remove the build and the link
@@ -30,9 +32,14 @@ rm -rf "$app"
 dotnet publish src/Tieflow.Service/Tieflow.Service.csproj -c Release -o "$app" -nologo -v q
 dotnet publish simulator/Tieflow.Simulator/Tieflow.Simulator.csproj -c Release -o "$app" -nologo -v q
 mkdir -p "$prefix/bin"
-ln -sfn "$app/tieflow" "$link"
-ln -sfn "$app/tieflow-sim" "$prefix/bin/tieflow-sim"
-echo "installed $("$link" --version | head -n 1) into $app; $link links to it"
+launcher() {
+  rm -f "$2"
+  printf '#!/bin/sh\n# Written by install.sh: starts %s with a 4 MiB young-generation budget unless one is set.\nexport DOTNET_GCgen0size="${DOTNET_GCgen0size:-0x400000}"\nexec "%s" "$@"\n' "$1" "$1" > "$2"
+  chmod 755 "$2"
+}
+launcher "$app/tieflow" "$link"
+launcher "$app/tieflow-sim" "$prefix/bin/tieflow-sim"
+echo "installed $("$link" --version | head -n 1) into $app; $link starts it"
 case ":$PATH:" in
   *":$prefix/bin:"*) ;;
   *) echo "note: $prefix/bin is not on your PATH; add  export PATH=\"$prefix/bin:\$PATH\"  to your shell profile" ;;

@@ -61,12 +61,7 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
     [Fact]
     public void ABiasedFeedMeter_IsNamedAsTheSuspect()
     {
-        UnitDescription unit = DemoUnits.Train(4);
-        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
-        var model = new UnitModel(unit);
-        List<WindowMeasurement> readings = [.. Readings(model, truth)];
-        int i = readings.FindIndex(m => m.Tag == "FI-301");
-        readings[i] = readings[i] with { Value = readings[i].Value + (12 * readings[i].Sigma) };
+        (UnitModel model, List<WindowMeasurement> readings) = FeedMeterReadingHigh();
 
         WindowReconciliation r = new WindowReconciler(model).Reconcile(readings, 298.15);
 
@@ -79,12 +74,7 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
     {
         // The same 12-sigma misfit in a window the steady-state gate did not pass: nothing is eliminated, and the sigmas
         // of every estimate grow by sqrt(chi-square / dof) of the one reconciliation (Birge 1932, Phys. Rev. 40, 207).
-        UnitDescription unit = DemoUnits.Train(4);
-        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
-        var model = new UnitModel(unit);
-        List<WindowMeasurement> readings = [.. Readings(model, truth)];
-        int i = readings.FindIndex(m => m.Tag == "FI-301");
-        readings[i] = readings[i] with { Value = readings[i].Value + (12 * readings[i].Sigma) };
+        (UnitModel model, List<WindowMeasurement> readings) = FeedMeterReadingHigh();
         var reconciler = new WindowReconciler(model);
 
         WindowReconciliation settling = reconciler.Reconcile(readings, 298.15, steady: false);
@@ -121,6 +111,18 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         Assert.True(r.Report.Final.GlobalTest.Statistic <= r.Report.Final.GlobalTest.DegreesOfFreedom);
         Assert.Equal(1, r.SigmaScale);
         Assert.Equal(r.Report.Initial.Estimates, r.Report.Final.Estimates);
+    }
+
+    // The four-stage train's exact readings, but the feed meter FI-301 reading 12 of its sigmas high.
+    private static (UnitModel Model, List<WindowMeasurement> Readings) FeedMeterReadingHigh()
+    {
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
+        var model = new UnitModel(unit);
+        List<WindowMeasurement> readings = [.. Readings(model, truth)];
+        int i = readings.FindIndex(m => m.Tag == "FI-301");
+        readings[i] = readings[i] with { Value = readings[i].Value + (12 * readings[i].Sigma) };
+        return (model, readings);
     }
 
     /// <summary>Every instrument of the unit reading the solved cascade exactly, with the sigma of a 30-minute average.</summary>
