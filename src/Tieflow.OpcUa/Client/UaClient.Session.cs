@@ -68,6 +68,7 @@ public sealed partial class UaClient
                 await ActivateAsync(channel, cancellationToken).ConfigureAwait(false);
             }
 
+            channel.TokenRenewed += _ => Interlocked.Increment(ref _tokenRenewals);
             var old = Interlocked.Exchange(ref _channel, channel);
             if (old is not null)
             {

@@ -17,6 +17,7 @@ namespace Tieflow.OpcUa.Client;
 /// </summary>
 public sealed partial class UaClient : IAsyncDisposable
 {
+    private int _tokenRenewals;
     private const string TransportProfileUri = "http://opcfoundation.org/UA-Profile/Transport/uatcp-uasc-uabinary";
     private readonly UaClientOptions _options;
     private readonly TimeProvider _time;
@@ -64,6 +65,9 @@ public sealed partial class UaClient : IAsyncDisposable
 
     /// <summary>How many times the connection has been re-established.</summary>
     public int ReconnectCount { get; private set; }
+
+    /// <summary>How many times the secure channel's token has been renewed, over every channel of this client.</summary>
+    public int TokenRenewals => Volatile.Read(ref _tokenRenewals);
 
     /// <summary>Connects: UA TCP, secure channel, GetEndpoints, CreateSession and ActivateSession, then reads the NamespaceArray.</summary>
     /// <param name="cancellationToken">Cancels the attempt.</param>
