@@ -110,7 +110,7 @@ public sealed class InfluxRunOutageTests : IDisposable
         Assert.True(during > 0, $"nothing acknowledged during the outage: {peak.Count} points in the outbox");
         int windowsAway = Windows(late) - windowsAtStop;
         long peakRss = SoakSize.PeakRssKib(run.Id) ?? 0;
-        _log.WriteLine($"{clock.Elapsed.TotalSeconds:F1} s: server started again after {(clock.Elapsed - stopped).TotalSeconds:F1} s away and {windowsAway} windows; {during} points acknowledged during the outage, {peak.Count} points ({peakRecords} records) in the outbox; /health \"{degraded}\"");
+        _log.WriteLine($"{clock.Elapsed.TotalSeconds:F1} s: server started again after {(clock.Elapsed - stopped).TotalSeconds:F1} s away and {windowsAway} windows; {during} points acknowledged during the outage, {peak.Count} points in the outbox (/status just after: {peakRecords} records); /health \"{degraded}\"");
         _server.Start();
         TimeSpan started = clock.Elapsed;
 
