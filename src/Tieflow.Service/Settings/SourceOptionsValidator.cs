@@ -1,9 +1,7 @@
-using System.Text.RegularExpressions;
-
 namespace Tieflow.Service.Settings;
 
 /// <summary>Validates <c>Tieflow:Source</c>: the kind and the keys that kind needs.</summary>
-internal sealed partial class SourceOptionsValidator(SettingsContext context) : SettingsValidator<SourceOptions>(context)
+internal sealed class SourceOptionsValidator(SettingsContext context) : SettingsValidator<SourceOptions>(context)
 {
     /// <summary>Environment variable that holds the OPC UA password (never a settings key, never logged).</summary>
     public const string PasswordVariable = Cli.UaSession.PasswordVariable;
@@ -20,18 +18,8 @@ internal sealed partial class SourceOptionsValidator(SettingsContext context) : 
         switch (options.Kind)
         {
             case SourceOptions.OpcUa:
-                if (Required(problems, $"{p}:Endpoint", options.Endpoint, "the plant's OPC UA endpoint URL, for example opc.tcp://plant-server:4840")
-                    && !(Uri.TryCreate(options.Endpoint, UriKind.Absolute, out Uri? uri) && uri.Scheme == "opc.tcp" && uri.Host.Length > 0))
-                {
-                    problems.Add(new SettingsProblem($"{p}:Endpoint", $"expected an opc.tcp://HOST:PORT URL, found '{options.Endpoint}'"));
-                }
-
-                NotBlank(problems, $"{p}:User", options.User);
-                if (options.Security is not null && !SecurityPattern().IsMatch(options.Security))
-                {
-                    problems.Add(new SettingsProblem($"{p}:Security", $"expected MODE[:POLICY] with MODE None, Sign or SignAndEncrypt and POLICY Basic256Sha256, Aes128_Sha256_RsaOaep or Aes256_Sha256_RsaPss, found '{options.Security}'"));
-                }
-
+                // The endpoint, the user, the security choice and the intervals are judged where the source's options
+                // are made (OpcUaSourceOptions.Problems; the security names by the OPC UA library's own parser).
                 NotBlank(problems, $"{p}:Pki", options.Pki);
                 Sources.OpcUaSourceFactory.ToSourceOptions(options, null, problems);
                 if (Context.CheckEnvironment && !string.IsNullOrWhiteSpace(options.User) && Context.Secret(PasswordVariable) is null)
@@ -59,7 +47,4 @@ internal sealed partial class SourceOptionsValidator(SettingsContext context) : 
 
         return problems;
     }
-
-    [GeneratedRegex("^(?:None|Sign|SignAndEncrypt)(?::(?:Basic256Sha256|Aes128_Sha256_RsaOaep|Aes256_Sha256_RsaPss))?$", RegexOptions.CultureInvariant)]
-    private static partial Regex SecurityPattern();
 }

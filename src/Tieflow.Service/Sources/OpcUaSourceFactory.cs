@@ -45,17 +45,15 @@ internal sealed class OpcUaSourceFactory : ISignalSourceFactory
         o.KeepAliveInterval = SettingsDuration.Parse(problems, $"{SourceOptions.Section}:KeepAliveInterval", settings.KeepAliveInterval, o.KeepAliveInterval);
         o.ConnectRetryDelay = SettingsDuration.Parse(problems, $"{SourceOptions.Section}:ConnectRetryDelay", settings.ConnectRetryDelay, o.ConnectRetryDelay);
         o.ConnectRetryMaxDelay = SettingsDuration.Parse(problems, $"{SourceOptions.Section}:ConnectRetryMaxDelay", settings.ConnectRetryMaxDelay, o.ConnectRetryMaxDelay);
-        if (problems.Count == 0)
+        // Every value the options judge themselves; a duration that did not parse is listed once, by its parser.
+        var listed = problems.Select(p => p.KeyPath).ToHashSet(StringComparer.Ordinal);
+        foreach (string problem in o.Problems())
         {
-            // Ranges and the relations between the intervals (endpoint, user and security are judged by the validator).
-            foreach (string problem in o.Problems())
+            int colon = problem.IndexOf(": ", StringComparison.Ordinal);
+            string key = colon > 0 ? problem[..colon] : SourceOptions.Section;
+            if (!listed.Contains(key))
             {
-                int colon = problem.IndexOf(": ", StringComparison.Ordinal);
-                string key = colon > 0 ? problem[..colon] : SourceOptions.Section;
-                if (!key.EndsWith(":Endpoint", StringComparison.Ordinal) && !key.EndsWith(":User", StringComparison.Ordinal) && !key.EndsWith(":Security", StringComparison.Ordinal))
-                {
-                    problems.Add(new SettingsProblem(key, colon > 0 ? problem[(colon + 2)..] : problem));
-                }
+                problems.Add(new SettingsProblem(key, colon > 0 ? problem[(colon + 2)..] : problem));
             }
         }
 

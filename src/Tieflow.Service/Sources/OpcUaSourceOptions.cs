@@ -57,7 +57,7 @@ internal sealed class OpcUaSourceOptions
         {
             problems.Add($"{SettingsKeys.SourceEndpoint}: missing; expected the plant server's URL, opc.tcp://HOST:PORT[/path]");
         }
-        else if (!Uri.TryCreate(Endpoint, UriKind.Absolute, out Uri? uri) || !string.Equals(uri.Scheme, "opc.tcp", StringComparison.OrdinalIgnoreCase) || uri.Port <= 0)
+        else if (!Uri.TryCreate(Endpoint, UriKind.Absolute, out Uri? uri) || !string.Equals(uri.Scheme, "opc.tcp", StringComparison.OrdinalIgnoreCase) || uri.Host.Length == 0 || uri.Port <= 0)
         {
             problems.Add($"{SettingsKeys.SourceEndpoint}: '{Endpoint}' is not an OPC UA URL; expected opc.tcp://HOST:PORT[/path]");
         }

@@ -51,8 +51,8 @@ public sealed class SettingsValidationTests : IDisposable
         [
             "Tieflow:Plnat: unknown key",
             "Tieflow:Plant: missing",
-            "Tieflow:Source:Endpoint: expected an opc.tcp://",
-            "Tieflow:Source:Security: expected MODE[:POLICY]",
+            "Tieflow:Source:Endpoint: 'http://plant:4840' is not an OPC UA URL; expected opc.tcp://HOST:PORT",
+            "Tieflow:Source:Security: Security 'Encrypt': unknown mode 'Encrypt'; expected None, Sign or SignAndEncrypt",
             "Tieflow:Source:User: a user is named, but the environment variable TIEFLOW_OPCUA_PASSWORD",
             "Tieflow:Source:Speed: expected a number, found 'fast'",
             "Tieflow:Store:Url: missing",
@@ -145,6 +145,23 @@ public sealed class SettingsValidationTests : IDisposable
 
         Assert.Equal(2, run.ExitCode);
         Assert.Contains("Tieflow:Units:0: the plant has no unit 'X999'", run.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Problems_OpcUaDurationThatDoesNotParse_StillListsTheEndpointAndSecurity()
+    {
+        IReadOnlyList<string> problems = Problems(new()
+        {
+            ["Tieflow:Plant"] = "x.plant.json",
+            ["Tieflow:Source:Kind"] = "opcua",
+            ["Tieflow:Source:Endpoint"] = "opc.tcp://:4840",
+            ["Tieflow:Source:Security"] = "Sign:Rot13",
+            ["Tieflow:Source:PublishingInterval"] = "soon",
+        });
+
+        Assert.Contains(problems, p => p.StartsWith("Tieflow:Source:Endpoint: 'opc.tcp://:4840' is not an OPC UA URL", StringComparison.Ordinal));
+        Assert.Contains(problems, p => p.StartsWith("Tieflow:Source:Security: Security 'Sign:Rot13': unknown policy 'Rot13'", StringComparison.Ordinal));
+        Assert.Single(problems, p => p.StartsWith("Tieflow:Source:PublishingInterval:", StringComparison.Ordinal));
     }
 
     [Fact]
