@@ -1,5 +1,6 @@
 using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
+using Tieflow.Core.Dynamics;
 using Tieflow.Core.Plant;
 using Tieflow.Core.Scenarios;
 using Tieflow.Files;
@@ -20,6 +21,31 @@ internal static class TestPlants
     public static MaterialStream Feed => new(1000, new Ternary(0.3, 0.7, 0));
 
     public static MaterialStream Solvent => new(450, new Ternary(0, 0, 1));
+
+    /// <summary>The feed of the step change the dynamics tests start from: more feed, leaner in solute.</summary>
+    public static MaterialStream SteppedFeed => new(1200, new Ternary(0.25, 0.75, 0));
+
+    /// <summary>The unit's inputs at 25 degC with its nominal efficiencies, the demo feed and solvent unless given.</summary>
+    public static UnitInputs NominalInputs(UnitDescription unit, MaterialStream? feed = null, MaterialStream? solvent = null)
+    {
+        ArgumentNullException.ThrowIfNull(unit);
+        var inputs = new UnitInputs(unit.Stages) { Feed = feed ?? Feed, Solvent = solvent ?? Solvent, TemperatureKelvin = 298.15 };
+        unit.Nominal.Efficiencies.ToArray().CopyTo(inputs.Efficiencies, 0);
+        return inputs;
+    }
+
+    /// <summary>Runs the unit for whole seconds in steps of one second, then evaluates it at the end.</summary>
+    public static void RunSeconds(UnitDynamics dynamics, UnitInputs inputs, int seconds)
+    {
+        ArgumentNullException.ThrowIfNull(dynamics);
+        for (int s = 0; s < seconds; s++)
+        {
+            dynamics.Evaluate(inputs);
+            dynamics.Advance(1);
+        }
+
+        dynamics.Evaluate(inputs);
+    }
 
     public static double[] Efficiencies(int stages) => stages == 4 ? [0.92, 0.9, 0.9, 0.88] : Enumerable.Repeat(0.9, stages).ToArray();
 

@@ -20,17 +20,14 @@ public sealed class HoldupAccumulationTests(ITestOutputHelper output)
     public void Estimate_AfterAFeedChange_MatchesTheSimulatedInventoryChange(double hours, double tolerance)
     {
         UnitDescription unit = TestPlants.Train(instruments: []);
-        var initial = new UnitInputs(4) { Feed = TestPlants.Feed, Solvent = TestPlants.Solvent, TemperatureKelvin = 298.15 };
-        unit.Nominal.Efficiencies.ToArray().CopyTo(initial.Efficiencies, 0);
-        var dynamics = new UnitDynamics(unit, initial);
-        var inputs = new UnitInputs(4) { Feed = new MaterialStream(1200, new Ternary(0.25, 0.75, 0)), Solvent = TestPlants.Solvent, TemperatureKelvin = 298.15 };
-        unit.Nominal.Efficiencies.ToArray().CopyTo(inputs.Efficiencies, 0);
-        Run(dynamics, inputs, (int)(hours * 3600));
+        var dynamics = new UnitDynamics(unit, TestPlants.NominalInputs(unit));
+        UnitInputs inputs = TestPlants.NominalInputs(unit, TestPlants.SteppedFeed);
+        TestPlants.RunSeconds(dynamics, inputs, (int)(hours * 3600));
 
         const int Span = 1200;
         double[] x0 = Raffinates(dynamics);
         Ternary[] i0 = [.. Enumerable.Range(1, 4).Select(dynamics.StageInventory)];
-        Run(dynamics, inputs, Span);
+        TestPlants.RunSeconds(dynamics, inputs, Span);
         double[] x1 = Raffinates(dynamics);
         double h = Span / 3600.0;
 
@@ -59,21 +56,8 @@ public sealed class HoldupAccumulationTests(ITestOutputHelper output)
     public void Estimate_WithoutSlopes_IsEmpty()
     {
         UnitDescription unit = TestPlants.Train(instruments: []);
-        var initial = new UnitInputs(4) { Feed = TestPlants.Feed, Solvent = TestPlants.Solvent, TemperatureKelvin = 298.15 };
-        unit.Nominal.Efficiencies.ToArray().CopyTo(initial.Efficiencies, 0);
-        var dynamics = new UnitDynamics(unit, initial);
+        var dynamics = new UnitDynamics(unit, TestPlants.NominalInputs(unit));
         Assert.Empty(HoldupAccumulation.Estimate(new UnitModel(unit), dynamics.InitialCascade, 298.15, [0.2, 0.15, 0.1, 0.07], [null, 0.0, null, null]));
-    }
-
-    private static void Run(UnitDynamics dynamics, UnitInputs inputs, int seconds)
-    {
-        for (int s = 0; s < seconds; s++)
-        {
-            dynamics.Evaluate(inputs);
-            dynamics.Advance(1);
-        }
-
-        dynamics.Evaluate(inputs);
     }
 
     private static double[] Raffinates(UnitDynamics d) => [.. Enumerable.Range(1, d.Stages).Select(k => d.Raffinate(k).Composition.Solute)];

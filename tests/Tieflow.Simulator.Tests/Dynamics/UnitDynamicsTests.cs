@@ -153,18 +153,10 @@ public sealed class UnitDynamicsTests
         return Prop.ForAll(gen.ToArbitrary(), c =>
         {
             UnitDescription unit = TestPlants.Train(instruments: [], holdup: new Holdup(c.Mixer, c.Settler));
-            var initial = new UnitInputs(4) { Feed = TestPlants.Feed, Solvent = TestPlants.Solvent, TemperatureKelvin = 298.15 };
-            unit.Nominal.Efficiencies.ToArray().CopyTo(initial.Efficiencies, 0);
-            var dynamics = new UnitDynamics(unit, initial);
+            var dynamics = new UnitDynamics(unit, TestPlants.NominalInputs(unit));
 
             // New inputs and an entrainment fault, so that the stages are away from steady state.
-            var inputs = new UnitInputs(4)
-            {
-                Feed = new MaterialStream(c.Feed, new Ternary(c.Solute, 1 - c.Solute, 0)),
-                Solvent = new MaterialStream(c.Solvent, new Ternary(0, 0, 1)),
-                TemperatureKelvin = 298.15,
-            };
-            unit.Nominal.Efficiencies.ToArray().CopyTo(inputs.Efficiencies, 0);
+            UnitInputs inputs = TestPlants.NominalInputs(unit, new MaterialStream(c.Feed, new Ternary(c.Solute, 1 - c.Solute, 0)), new MaterialStream(c.Solvent, new Ternary(0, 0, 1)));
             inputs.Entrainment[1] = 0.02;
             for (int step = 0; step < 5; step++)
             {
@@ -200,11 +192,8 @@ public sealed class UnitDynamicsTests
     public void Advance_KeepsTheWholeUnitBalance_OverAnHourOfTransient()
     {
         UnitDescription unit = TestPlants.Train(instruments: []);
-        var initial = new UnitInputs(4) { Feed = TestPlants.Feed, Solvent = TestPlants.Solvent, TemperatureKelvin = 298.15 };
-        unit.Nominal.Efficiencies.ToArray().CopyTo(initial.Efficiencies, 0);
-        var dynamics = new UnitDynamics(unit, initial);
-        var inputs = new UnitInputs(4) { Feed = new MaterialStream(1200, new Ternary(0.25, 0.75, 0)), Solvent = TestPlants.Solvent, TemperatureKelvin = 298.15 };
-        unit.Nominal.Efficiencies.ToArray().CopyTo(inputs.Efficiencies, 0);
+        var dynamics = new UnitDynamics(unit, TestPlants.NominalInputs(unit));
+        UnitInputs inputs = TestPlants.NominalInputs(unit, TestPlants.SteppedFeed);
         Ternary start = Total(dynamics);
         Ternary netIn = default;
         for (int s = 0; s < 3600; s++)
