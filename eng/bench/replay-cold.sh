@@ -6,7 +6,7 @@
 # two-day clean demo history once (config-samples/scenarios/clean.scenario.json), then runs `tieflow replay` on it N times
 # per build, alternating the builds, and prints per run the CPU time, the rate and the load average (the machine may be
 # shared: compare alternating runs, not figures from different hours). DOTNET_GCgen0size is set as the launchers of
-# install.sh set it, unless the environment sets it.
+# install.sh set it, unless the environment sets it. Linux on x64 only (a linux-x64 publish, /proc/loadavg); needs bc.
 #   eng/bench/replay-cold.sh [-n N] [--dir DIR] [--r2r FOLDER] [--jit FOLDER]
 #     -n N          runs per build (default 5)
 #     --dir DIR     work folder for the publishes and the history (default: a new temporary folder, removed at the end)
@@ -50,16 +50,18 @@ rows=$(( $(wc -l < "$history") - 1 ))   # less the header line
 echo "history: $rows rows, $(( $(stat -c %s "$history") / 1000000 )) MB; $(nproc) cores; DOTNET_GCgen0size=$DOTNET_GCgen0size"
 
 TIMEFORMAT='%U %S %R'
-replay() { # replay FOLDER: prints "user system wall" of the process
+replay() { # replay FOLDER: writes "user system wall" of the process to $dir/replay.time
   { time "$1/tieflow" replay --plant "$root/config-samples/brackenmoor.plant.json" --history "$history" --labs "$labs" \
-      > /dev/null 2> "$dir/replay.err"; } 2>&1
+      > /dev/null 2> "$dir/replay.err"; } 2> "$dir/replay.time" \
+    || { echo "replay-cold.sh: tieflow replay of $1 failed:" >&2; cat "$dir/replay.err" >&2; exit 1; }
 }
 declare -A all=()
 printf '%-5s %3s %8s %8s %6s  %s\n' build run "CPU s" "M rows/s" "wall s" "load average (1, 5, 15 min)"
 for ((i = 1; i <= runs; i++)); do
   for build in r2r jit; do
     folder=$r2r; [ "$build" = jit ] && folder=$jit
-    read -r user sys wall < <(replay "$folder")
+    replay "$folder"
+    read -r user sys wall < "$dir/replay.time"
     cpu=$(echo "$user + $sys" | bc -l)
     rate=$(echo "$rows / $cpu / 1000000" | bc -l)
     all[$build]+="$rate "
