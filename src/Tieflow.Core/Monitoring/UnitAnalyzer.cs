@@ -62,6 +62,9 @@ public sealed class UnitAnalyzer
     private readonly double[] _sumEfficiency;
     private readonly int[] _countEfficiency;
     private readonly Dictionary<string, int> _suspectRuns = new(StringComparer.Ordinal);
+
+    // Per tag left out of the balances, the consecutive steady windows in which its own test passed.
+    private readonly Dictionary<string, int> _clearRuns = new(StringComparer.Ordinal);
     private readonly List<(DateTimeOffset Start, DateTimeOffset End, double Value, double Sigma)> _predictions = [];
     private readonly List<LabComparison> _labComparisons = [];
     private readonly List<(DateTimeOffset Time, double Value)> _softTrace = [];
@@ -434,10 +437,14 @@ public sealed class UnitAnalyzer
                 output);
         }
 
+        // Instruments already found suspect are left out of the balances (and of the dynamic fit) until the balances
+        // agree with them again: a drifting analyzer would otherwise bias every estimate, and one window in which the
+        // serial elimination named another instrument would be enough to clear it.
+        HashSet<string> excluded = [.. _checkers.Keys.Where(t => _alerts.IsActive(new AlertKey("suspect-instrument", null, t)))];
         WindowReconciliation? rec = null;
         try
         {
-            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes, steady) : null;
+            rec = measurements.Count > 0 ? _reconciler.Reconcile(measurements, temperature, entrained, accumulationSlopes, steady, excluded) : null;
         }
         catch (Exception e) when (e is ReconciliationException or EquilibriumException or ArgumentException)
         {
@@ -460,6 +467,7 @@ public sealed class UnitAnalyzer
         _reconciledCount++;
         ReconciliationResult final = rec.Report.Final;
         WriteStreams(end, final, output);
+        List<string> disputed = [.. rec.SuspectTags, .. rec.ExcludedTests.Select(t => t.Tag)];
 
         // Efficiencies: observed per stage, else one shared efficiency fitted to the terminal streams.
         var efficiencies = new EstimatedValue?[_unit.Stages];
@@ -471,7 +479,7 @@ public sealed class UnitAnalyzer
             {
                 anyUnobserved = true;
             }
-            else if (e.Status == EfficiencyStatus.Determined && !StreamsDisputed(e.Stage, rec.SuspectTags))
+            else if (e.Status == EfficiencyStatus.Determined && !StreamsDisputed(e.Stage, disputed))
             {
                 efficiencies[e.Stage - 1] = new EstimatedValue(e.Value, e.Sigma);
             }
@@ -504,7 +512,7 @@ public sealed class UnitAnalyzer
             output.Add(new StageRecord(_unit.Id, end, k + 1, steady ? efficiencies[k] : null, entrainmentByStage[k], stageTemperatures[k]));
         }
 
-        TrackerWindow? trackerWindow = _tracker is null ? null : TrackerWindowOf(feed, solvent, temperature, byTag);
+        TrackerWindow? trackerWindow = _tracker is null ? null : TrackerWindowOf(feed, solvent, temperature, excluded.Count == 0 ? byTag : byTag.Where(p => !excluded.Contains(p.Key)).ToDictionary(StringComparer.Ordinal));
         if (steady && trackerWindow is not null)
         {
             _tracker!.AddSteady(trackerWindow, ModelEfficiencies(null).Values);
@@ -535,7 +543,7 @@ public sealed class UnitAnalyzer
             // opens are not suspects and the efficiencies it biases do not drift. Likewise while an analyzer is a
             // suspect instrument: the balances every efficiency rests on carry its error.
             leaking = SolventBalanceOpen();
-            UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, output);
+            UpdateSuspects(end, leaking ? [.. rec.SuspectTags.Where(t => _model.Binding(t)!.Instrument.Quantity != InstrumentQuantity.Flow)] : rec.SuspectTags, excluded, rec.ExcludedTests, output);
             analyzerSuspect = AnyAnalyzerSuspect();
             UpdateDrift(end, efficiencies, anyUnobserved, keyAnalyzerFailed || entrained.Count > 0 || leaking || analyzerSuspect, output);
         }
@@ -898,10 +906,38 @@ public sealed class UnitAnalyzer
         }
     }
 
-    private void UpdateSuspects(DateTimeOffset end, IReadOnlyList<string> suspects, List<MonitorRecord> output)
+    /// <summary>
+    /// The suspect-instrument alerts of a steady window. A tag named by the serial elimination in
+    /// <see cref="AnalysisSettings.SuspectWindows"/> consecutive steady windows is raised; from then on it is left out of
+    /// the balances and judged by its own test against the estimate without it, and its alert clears once that test has
+    /// passed in as many consecutive steady windows (then the off-delay). A window without the tag's reading holds it.
+    /// </summary>
+    private void UpdateSuspects(DateTimeOffset end, IReadOnlyList<string> suspects, IReadOnlySet<string> excluded, IReadOnlyList<ExcludedMeasurementTest> excludedTests, List<MonitorRecord> output)
     {
         foreach (string tag in _checkers.Keys)
         {
+            if (tag != _solventMeter || _solventMeterBias is null)
+            {
+                int found = -1;
+                for (int i = 0; i < excludedTests.Count && found < 0; i++)
+                {
+                    found = excludedTests[i].Tag == tag ? i : -1;
+                }
+
+                if (found >= 0)
+                {
+                    UpdateExcludedSuspect(end, excludedTests[found], output);
+                    continue;
+                }
+
+                if (excluded.Contains(tag) && !suspects.Contains(tag))
+                {
+                    // Left out, but without a reading (or kept in for observability and not named): nothing new on it.
+                    continue;
+                }
+            }
+
+            _clearRuns[tag] = 0;
             bool named = suspects.Contains(tag);
             _suspectRuns[tag] = named ? (_suspectRuns.TryGetValue(tag, out int r) ? r + 1 : 1) : 0;
             var key = new AlertKey("suspect-instrument", null, tag);
@@ -921,6 +957,28 @@ public sealed class UnitAnalyzer
                 new Dictionary<string, double> { ["windows"] = _suspectRuns[tag], ["threshold"] = _settings.SuspectWindows },
                 output);
         }
+    }
+
+    private void UpdateExcludedSuspect(DateTimeOffset end, ExcludedMeasurementTest test, List<MonitorRecord> output)
+    {
+        string tag = test.Tag;
+        bool disagrees = test.Disagrees;
+        _clearRuns[tag] = disagrees ? 0 : _clearRuns.GetValueOrDefault(tag) + 1;
+        _suspectRuns[tag] = disagrees ? _suspectRuns.GetValueOrDefault(tag) + 1 : 0;
+        var key = new AlertKey("suspect-instrument", null, tag);
+        _alerts.Update(end, key, _clearRuns[tag] < _settings.SuspectWindows, AlertSeverity.Medium,
+            $"{tag} is left out of the balances: its reading differs from their estimate without it by {test.Normalized:F1} sigma (critical {test.Critical:F2}); {_clearRuns[tag]} of {_settings.SuspectWindows} consecutive steady windows agree",
+            new Dictionary<string, double>
+            {
+                ["z"] = test.Normalized,
+                ["critical"] = test.Critical,
+                ["measured"] = test.Measured,
+                ["estimate"] = test.Estimate,
+                ["sigma"] = test.Sigma,
+                ["clearWindows"] = _clearRuns[tag],
+                ["threshold"] = _settings.SuspectWindows,
+            },
+            output);
     }
 
     private SolventBalance SolventAccounting(ReconciliationResult final, Dictionary<string, WindowMeasurement> byTag, double holdupGain)

@@ -54,10 +54,56 @@ public sealed class WindowReconciler
     /// sigmas are then scaled by the Birge ratio, max(1, sqrt(chi-square / degrees of freedom)), which makes the scatter
     /// of the adjustments consistent with the sigmas (R. T. Birge, "The calculation of errors by the method of least
     /// squares", Phys. Rev. 40 (1932) 207-227; from memory).</param>
+    /// <param name="excludedTags">Tags left out of the balances (instruments already found suspect). Each is tested
+    /// against the estimate of its quantity from the others (<see cref="WindowReconciliation.ExcludedTests"/>); one
+    /// without which its quantity cannot be estimated is kept in (<see cref="WindowReconciliation.KeptTags"/>).</param>
     /// <exception cref="ReconciliationException">When the reconciliation does not converge.</exception>
-    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null, IReadOnlyList<(double Slope, double Sigma)?>? raffinateSlopes = null, bool steady = true)
+    public WindowReconciliation Reconcile(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams = null, IReadOnlyList<(double Slope, double Sigma)?>? raffinateSlopes = null, bool steady = true, IReadOnlySet<string>? excludedTags = null)
     {
         ArgumentNullException.ThrowIfNull(measurements);
+        if (excludedTags is null || excludedTags.Count == 0 || !measurements.Any(m => excludedTags.Contains(m.Tag)))
+        {
+            return ReconcileAll(measurements, temperatureKelvin, entrainedStreams, raffinateSlopes, steady);
+        }
+
+        var kept = new List<WindowMeasurement>(measurements.Count);
+        var excluded = new List<WindowMeasurement>();
+        foreach (WindowMeasurement m in measurements)
+        {
+            (excludedTags.Contains(m.Tag) ? excluded : kept).Add(m);
+        }
+
+        WindowReconciliation result = ReconcileAll(kept, temperatureKelvin, entrainedStreams, raffinateSlopes, steady);
+
+        // An instrument without which its quantity is not observable cannot be judged by the others: it goes back in.
+        List<WindowMeasurement> putBack = [.. excluded.Where(m => !result.Report.Final[m.Key].HasValue)];
+        if (putBack.Count > 0)
+        {
+            kept.AddRange(putBack);
+            excluded.RemoveAll(putBack.Contains);
+            result = ReconcileAll(kept, temperatureKelvin, entrainedStreams, raffinateSlopes, steady);
+        }
+
+        // The test of a deleted measurement: its reading against the estimate from the rest, whose error is independent
+        // of the reading's, so the difference has the variance sigma_m^2 + sigma_estimate^2. Two-sided, Sidak over the
+        // excluded instruments (as the measurement test of the engine).
+        var tests = new List<ExcludedMeasurementTest>(excluded.Count);
+        if (excluded.Count > 0)
+        {
+            double critical = GrossErrorTests.SidakCritical(excluded.Count, _settings.Significance);
+            foreach (WindowMeasurement m in excluded)
+            {
+                QuantityEstimate estimate = result.Report.Final[m.Key];
+                double sigma = Math.Sqrt((m.Sigma * m.Sigma) + (estimate.Sigma * estimate.Sigma));
+                tests.Add(new ExcludedMeasurementTest(m.Tag, m.Key, m.Value, estimate.Value, sigma, (m.Value - estimate.Value) / sigma, critical));
+            }
+        }
+
+        return result with { ExcludedTests = tests, KeptTags = [.. putBack.Select(m => m.Tag)] };
+    }
+
+    private WindowReconciliation ReconcileAll(IReadOnlyList<WindowMeasurement> measurements, double temperatureKelvin, IReadOnlySet<string>? entrainedStreams, IReadOnlyList<(double Slope, double Sigma)?>? raffinateSlopes, bool steady)
+    {
         UnitDescription unit = _model.Unit;
         IPhaseEquilibrium eq = unit.Equilibrium;
         string solute = _model.ComponentIds[0], diluent = _model.ComponentIds[1], solvent = _model.ComponentIds[2];

@@ -24,6 +24,12 @@ public sealed record WindowReconciliation(
     /// </summary>
     public double SigmaScale { get; init; } = 1;
 
+    /// <summary>Per tag left out of the balances, its reading tested against the estimate from the other instruments.</summary>
+    public IReadOnlyList<ExcludedMeasurementTest> ExcludedTests { get; init; } = [];
+
+    /// <summary>Tags asked to be left out but kept in, because their quantities are not observable without them.</summary>
+    public IReadOnlyList<string> KeptTags { get; init; } = [];
+
     /// <summary>The whole unit's rate of gain of one component, in the flow unit (zero at steady state).</summary>
     /// <param name="component">Component id.</param>
     public double TotalAccumulation(string component) => Accumulation.Where(a => a.Component == component).Sum(a => a.Rate);

@@ -67,6 +67,42 @@ public sealed class UnitAnalyzerTests(ITestOutputHelper output)
     }
 
     [Fact]
+    public void ASuspectMeter_IsLeftOutUntilItsOwnTestPassesInThreeSteadyWindows()
+    {
+        // FI-301 reads 10 kg/h high (about 17 sigma of a window's mean) from hour 1 to hour 6. It is raised as a suspect
+        // instrument once the steady-state gate has passed three windows, then left out of the balances and judged by its
+        // reading against the others' estimate of the feed: the alert holds while the bias lasts and clears only after
+        // three consecutive steady windows whose test passes (the first window wholly after hour 6 ends at 6.5 h, the
+        // third at 7.5 h) and the one-hour off-delay. Judged by the serial elimination alone, it would clear an off-delay
+        // after the first window that does not name it.
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Truth);
+        var analyzer = new UnitAnalyzer(unit);
+        var records = new List<MonitorRecord>();
+        foreach (SignalSample s in Readings(unit, truth, TimeSpan.FromHours(11), seed: 5))
+        {
+            bool biased = s.Tag == "FI-301" && s.Time >= T0.AddHours(1) && s.Time < T0.AddHours(6);
+            analyzer.Add(biased ? s with { Value = s.Value + 10 } : s, records);
+        }
+
+        analyzer.Advance(T0.AddHours(11), records);
+        foreach (AlertRecord a in records.OfType<AlertRecord>())
+        {
+            output.WriteLine($"{a.Time:HH:mm} {a.Kind} {a.Tag} {(a.Active ? "raised" : "cleared")}: {a.Message} [{string.Join(", ", a.Evidence.Select(p => $"{p.Key} {p.Value:G4}"))}]");
+        }
+
+        AlertRecord raised = Assert.Single(records.OfType<AlertRecord>(), a => a.Active);
+        AlertRecord cleared = Assert.Single(records.OfType<AlertRecord>(), a => !a.Active);
+        Assert.Equal(("suspect-instrument", "FI-301"), (raised.Kind, raised.Tag));
+        Assert.Equal(("suspect-instrument", "FI-301"), (cleared.Kind, cleared.Tag));
+        Assert.InRange(raised.Time, T0.AddHours(1), T0.AddHours(5));
+        Assert.InRange(cleared.Time, T0.AddHours(8.5), T0.AddHours(10.5));
+        Assert.True(Math.Abs(cleared.Evidence["z"]) <= cleared.Evidence["critical"], $"z {cleared.Evidence["z"]}");
+        Assert.True(cleared.Evidence["clearWindows"] >= 3);
+        Assert.InRange(cleared.Evidence["estimate"], unit.Nominal.Feed.Flow - 5, unit.Nominal.Feed.Flow + 5);
+    }
+
+    [Fact]
     public void CutHistory_GivesTheSameRecordsUpToTheCut()
     {
         UnitDescription unit = DemoUnits.Train(4);

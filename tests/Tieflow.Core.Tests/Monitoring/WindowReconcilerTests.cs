@@ -113,6 +113,69 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         Assert.Equal(r.Report.Initial.Estimates, r.Report.Final.Estimates);
     }
 
+    [Fact]
+    public void AnExcludedMeter_IsLeftOutOfTheBalancesAndTestedAgainstTheEstimateWithoutIt()
+    {
+        // The biased feed meter, left out: the balances are those of the other instruments alone, and the meter's reading
+        // is tested against their estimate of the feed flow (the test of a deleted measurement, sigma of the difference
+        // sqrt(sigma_m^2 + sigma_estimate^2)), which its 12-sigma bias fails.
+        (UnitModel model, List<WindowMeasurement> readings) = FeedMeterReadingHigh();
+        WindowMeasurement meter = readings.Single(m => m.Tag == "FI-301");
+
+        WindowReconciliation left = new WindowReconciler(model).Reconcile(readings, 298.15, excludedTags: new HashSet<string> { "FI-301" });
+        WindowReconciliation without = new WindowReconciler(model).Reconcile([.. readings.Where(m => m.Tag != "FI-301")], 298.15);
+
+        Assert.True(left.Report.Initial.GlobalTest.Passed);
+        Assert.Empty(left.SuspectTags);
+        Assert.Empty(left.KeptTags);
+        for (int v = 0; v < without.Report.Final.Estimates.Count; v++)
+        {
+            Assert.Equal(without.Report.Final.Estimates[v], left.Report.Final.Estimates[v]);
+        }
+
+        ExcludedMeasurementTest test = Assert.Single(left.ExcludedTests);
+        QuantityEstimate feed = without.Report.Final.Flow("feed");
+        output.WriteLine($"FI-301 {test.Measured:F2} against {test.Estimate:F2} +- {feed.Sigma:F2}: z = {test.Normalized:F2}, critical {test.Critical:F3}");
+        Assert.Equal("FI-301", test.Tag);
+        Assert.Equal(feed.Value, test.Estimate);
+        Assert.Equal(Math.Sqrt((meter.Sigma * meter.Sigma) + (feed.Sigma * feed.Sigma)), test.Sigma, 1e-12);
+        Assert.Equal(GrossErrorTests.SidakCritical(1, 0.05), test.Critical);
+        Assert.True(test.Disagrees);
+        Assert.InRange(test.Normalized, 3, 12);
+    }
+
+    [Fact]
+    public void AnExcludedMeterThatReadsTrue_PassesItsTest()
+    {
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Efficiencies);
+        var model = new UnitModel(unit);
+
+        WindowReconciliation r = new WindowReconciler(model).Reconcile(Readings(model, truth), 298.15, excludedTags: new HashSet<string> { "FI-301", "FI-305" });
+
+        Assert.Equal(2, r.ExcludedTests.Count);
+        Assert.All(r.ExcludedTests, t => Assert.False(t.Disagrees, $"{t.Tag}: z = {t.Normalized}"));
+        Assert.All(r.ExcludedTests, t => Assert.Equal(GrossErrorTests.SidakCritical(2, 0.05), t.Critical));
+        Assert.All(r.ExcludedTests, t => Assert.InRange(Math.Abs(t.Normalized), 0, 0.01));
+    }
+
+    [Fact]
+    public void ExcludedMetersWithoutWhichTheFlowsAreUnobservable_AreKeptIn()
+    {
+        // Compositions alone fix no flow: with every flow meter left out, no flow could be estimated, so they all go back
+        // in and the window is reconciled as if nothing had been excluded.
+        (UnitModel model, List<WindowMeasurement> readings) = FeedMeterReadingHigh();
+        HashSet<string> meters = [.. readings.Where(m => m.Key.Quantity == MeasuredQuantity.Flow).Select(m => m.Tag)];
+
+        WindowReconciliation r = new WindowReconciler(model).Reconcile(readings, 298.15, excludedTags: meters);
+        WindowReconciliation plain = new WindowReconciler(model).Reconcile(readings, 298.15);
+
+        Assert.Equal(meters.Order(StringComparer.Ordinal), r.KeptTags.Order(StringComparer.Ordinal));
+        Assert.Empty(r.ExcludedTests);
+        Assert.Equal(plain.SuspectTags, r.SuspectTags);
+        Assert.Equal(plain.Report.Final.Estimates, r.Report.Final.Estimates);
+    }
+
     // The four-stage train's exact readings, but the feed meter FI-301 reading 12 of its sigmas high.
     private static (UnitModel Model, List<WindowMeasurement> Readings) FeedMeterReadingHigh()
     {
