@@ -36,7 +36,7 @@ public sealed record AnalysisSettings
     /// <summary><c>solventLossFraction</c>: unaccounted solvent as a fraction of the solvent flow that raises a solvent-loss alert.</summary>
     public double SolventLossFraction { get; init; } = 0.005;
 
-    /// <summary><c>suspectWindows</c>: consecutive windows that must name the same tag before a suspect-instrument alert.</summary>
+    /// <summary><c>suspectWindows</c>: consecutive steady windows that must name the same tag before a suspect-instrument alert, and in which a tag left out must agree with the balances before it clears.</summary>
     public int SuspectWindows { get; init; } = 3;
 
     /// <summary><c>labMismatchSigmas</c>: a lab result further than this many combined sigmas from the soft sensor raises lab-mismatch.</summary>
