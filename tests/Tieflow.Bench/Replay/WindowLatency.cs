@@ -53,9 +53,9 @@ internal static class WindowLatency
             simulation.Step(samples);
         }
 
-        Measure(scenario.Plant, samples.Samples);
-        (Dictionary<string, List<double>> byUnit, List<double> plantWindows, List<double> cpu) = Measure(scenario.Plant, samples.Samples);
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{which}: {samples.Samples.Count:N0} readings, {plantWindows.Count} windows of the plant"));
+        Measure(scenario.Plant, samples);
+        (Dictionary<string, List<double>> byUnit, List<double> plantWindows, List<double> cpu) = Measure(scenario.Plant, samples);
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{which}: {samples.Count:N0} readings, {plantWindows.Count} windows of the plant"));
         foreach ((string unit, List<double> ms) in byUnit)
         {
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  {unit,-6} wall {Stats(ms)}; {AllocatedBytes[unit] / 1024.0 / ms.Count:F0} KiB allocated per window"));
@@ -81,7 +81,7 @@ internal static class WindowLatency
         return string.Create(CultureInfo.InvariantCulture, $"{sorted.Length} windows: mean {ms.Average():F3} ms, median {P(0.5):F3}, p95 {P(0.95):F3}, max {sorted[^1]:F3} ms");
     }
 
-    private static (Dictionary<string, List<double>> ByUnit, List<double> Plant, List<double> Cpu) Measure(PlantDescription plant, List<SignalSample> samples)
+    private static (Dictionary<string, List<double>> ByUnit, List<double> Plant, List<double> Cpu) Measure(PlantDescription plant, Collector samples)
     {
         var analyzers = plant.Units.Select(u => new UnitAnalyzer(u)).ToArray();
         var byTag = new Dictionary<string, UnitAnalyzer>(StringComparer.Ordinal);
@@ -100,7 +100,7 @@ internal static class WindowLatency
         DateTimeOffset groupTime = DateTimeOffset.MinValue;
         double groupStart = 0;
         bool groupCloses = false;
-        foreach (SignalSample s in samples)
+        foreach (SignalSample s in samples.Samples())
         {
             if (s.Time != groupTime && ThreadCpu.Available)
             {
@@ -138,11 +138,39 @@ internal static class WindowLatency
         return (byUnit, plantWindows, cpu);
     }
 
+    /// <summary>
+    /// The simulated readings, held without object references: a whole history of <see cref="SignalSample"/> (a tag
+    /// string each) would make every full collection during the measurement mark millions of references, a cost of the
+    /// benchmark's own store (100-400 ms in one window of the six-stage train) that a replay, which streams its history,
+    /// never pays.
+    /// </summary>
     private sealed class Collector : ISimulationSink
     {
-        public List<SignalSample> Samples { get; } = [];
+        private readonly List<string> _tags = [];
+        private readonly Dictionary<string, int> _tagIndex = new(StringComparer.Ordinal);
+        private readonly List<Reading> _readings = [];
 
-        public void OnSample(UnitDescription unit, Instrument instrument, in SignalSample sample) => Samples.Add(sample);
+        public int Count => _readings.Count;
+
+        public IEnumerable<SignalSample> Samples()
+        {
+            foreach (Reading r in _readings)
+            {
+                yield return new SignalSample(_tags[r.Tag], new DateTimeOffset(r.UtcTicks, TimeSpan.Zero), r.Value, r.Quality);
+            }
+        }
+
+        public void OnSample(UnitDescription unit, Instrument instrument, in SignalSample sample)
+        {
+            if (!_tagIndex.TryGetValue(sample.Tag, out int tag))
+            {
+                tag = _tags.Count;
+                _tags.Add(sample.Tag);
+                _tagIndex[sample.Tag] = tag;
+            }
+
+            _readings.Add(new Reading(tag, sample.Time.UtcTicks, sample.Value, sample.Quality));
+        }
 
         public void OnLabResult(LabResult result)
         {
@@ -151,5 +179,7 @@ internal static class WindowLatency
         public void OnTruth(UnitDescription unit, TruthSample sample)
         {
         }
+
+        private readonly record struct Reading(int Tag, long UtcTicks, double Value, SignalQuality Quality);
     }
 }
