@@ -225,6 +225,13 @@ public sealed class UnitDynamics
         _evaluatedFor = null;
     }
 
+    /// <summary>
+    /// The extract solute fraction each stage's next split starts from: the last split's, unless the caller puts a
+    /// better guess here (a trajectory run again with slightly other inputs knows roughly where each split will land).
+    /// Only the number of secant steps depends on it; the answer is the split's, within the splitter's tolerance.
+    /// </summary>
+    internal Span<double> SplitStarts => _warmY;
+
     /// <summary>Computes every stream of the unit at the current state for these inputs.</summary>
     /// <exception cref="SimulationException">A stage has become one liquid phase or left the equilibrium data.</exception>
     public void Evaluate(UnitInputs inputs)

@@ -77,6 +77,12 @@ public sealed class UnitAnalyzer
     private int _solventBaselineCount;
     private double _softLast = double.NaN;
     private double _softLagged = double.NaN;
+
+    // The soft sensor's last cascades (see SoftSensor): the central one, and per stage the one with its efficiency
+    // raised, with the step it was raised by (0 where none was solved).
+    private CascadeResult? _softCentral;
+    private CascadeResult?[] _softRaised = [];
+    private double[] _softRaisedBy = [];
     private (double Efficiency, double Sigma, double TheoreticalStages, double? Hets) _overall = (double.NaN, double.NaN, double.NaN, null);
     private DateTimeOffset? _first;
     private DateTimeOffset? _last;
@@ -1126,29 +1132,88 @@ public sealed class UnitAnalyzer
         {
             var solver = new CascadeSolver(_unit.Equilibrium, temperature);
             double[] eff = [.. efficiencies];
-            CascadeResult central = solver.Solve(_unit.Arrangement, feed, solvent, eff);
+            if (_softRaised.Length != eff.Length)
+            {
+                _softRaised = new CascadeResult?[eff.Length];
+                _softRaisedBy = new double[eff.Length];
+            }
+
+            // The central cascade from the last window's (a few Newton steps: the same answer within the solver's
+            // tolerance, see CascadeSolver.Solve); from the split of feed plus solvent should that start fail.
+            CascadeResult central = SolveNear(solver, feed, solvent, eff, _softCentral is { } last ? CascadeSolver.StartProfile(last) : null);
             double x = central.Raffinate.Composition.Solute;
 
-            // Each efficiency raised by its sigma, the cascade solved from the central profile (a few Newton steps, the
-            // same answer within the solver's tolerance); an efficiency already at 1 leaves the central answer.
+            // Each efficiency raised by its sigma, the cascade solved from the central profile moved as the last window's
+            // raised cascade moved from its central one (scaled to this window's step), or from the central profile
+            // itself; an efficiency already at 1 leaves the central answer.
             double variance = 0;
             for (int k = 0; k < eff.Length; k++)
             {
                 double s = sigmas[k];
                 double saved = eff[k];
                 eff[k] = Math.Clamp(saved + s, 0.02, 1);
-                double up = eff[k] == saved ? x : solver.Solve(_unit.Arrangement, feed, solvent, eff, central).Raffinate.Composition.Solute;
+                double by = eff[k] - saved;
+                double up = x;
+                if (by != 0)
+                {
+                    CascadeResult raised = SolveNear(solver, feed, solvent, eff, RaisedStart(central, k, by), central);
+                    up = raised.Raffinate.Composition.Solute;
+                    _softRaised[k] = raised;
+                }
+
+                _softRaisedBy[k] = by;
                 eff[k] = saved;
                 variance += (up - x) * (up - x);
             }
 
+            _softCentral = central;
             double sigma = Math.Sqrt(variance);
             return (x, steady ? sigma : 2 * sigma);
         }
         catch (Exception e) when (e is CascadeException or EquilibriumException or ArgumentException)
         {
+            _softCentral = null;
             return (double.NaN, double.NaN);
         }
+    }
+
+    // The soft sensor's cascade from a starting profile; should Newton fail from it, the solve of the old way (from
+    // the split of feed plus solvent, or for a raised efficiency from the central profile, given as fallback).
+    private CascadeResult SolveNear(CascadeSolver solver, MaterialStream feed, MaterialStream solvent, double[] eff, double[]? start, CascadeResult? fallback = null)
+    {
+        if (start is not null && _unit.Arrangement == CascadeArrangement.Countercurrent)
+        {
+            try
+            {
+                return solver.SolveCountercurrent(feed, solvent, eff, start);
+            }
+            catch (CascadeException)
+            {
+            }
+        }
+
+        return solver.Solve(_unit.Arrangement, feed, solvent, eff, fallback);
+    }
+
+    // Where the cascade with stage k's efficiency raised by `by` should land: the central profile moved as the last
+    // window's raised cascade moved from its central one, in proportion to the steps (fractions by difference, flows
+    // by ratio); the central profile itself when the last window has none.
+    private double[] RaisedStart(CascadeResult central, int k, double by)
+    {
+        double[] start = CascadeSolver.StartProfile(central);
+        if (_softCentral is not { } lastCentral || _softRaised[k] is not { } lastRaised || _softRaisedBy[k] == 0 || lastCentral.Stages.Count != central.Stages.Count)
+        {
+            return start;
+        }
+
+        double[] from = CascadeSolver.StartProfile(lastCentral), to = CascadeSolver.StartProfile(lastRaised);
+        double ratio = by / _softRaisedBy[k];
+        for (int i = 0; i < start.Length; i++)
+        {
+            start[i] = i % 4 < 2 ? start[i] + (ratio * (to[i] - from[i])) : from[i] > 0 ? start[i] * (1 + (ratio * ((to[i] / from[i]) - 1))) : start[i];
+        }
+
+        return start;
     }
 
     private double? SolventToFeedNeeded(MaterialStream feed, Ternary solventComposition, double temperature, double[] efficiencies)

@@ -1,3 +1,4 @@
+using Tieflow.Core.Cascade;
 using Tieflow.Core.Chemistry;
 using Tieflow.Core.Dynamics;
 using Tieflow.Core.Monitoring.Efficiency;
@@ -88,6 +89,75 @@ public sealed class DynamicEfficiencyTrackerTests(ITestOutputHelper output)
 
         // Four hours after: stage 3 at its new value.
         Assert.True(Math.Abs(fit!.Efficiencies[2]!.Value.Value - 0.60) <= 0.04, $"stage 3 at 4 h: {fit.Efficiencies[2]}");
+    }
+
+    [Theory]
+    [InlineData(4, 1, CascadeArrangement.Countercurrent)]
+    [InlineData(6, 2, CascadeArrangement.Countercurrent)]
+    [InlineData(4, 3, CascadeArrangement.Countercurrent)]
+    [InlineData(4, 2, CascadeArrangement.Crosscurrent)]
+    public void Add_ReusingTheLastFitsRuns_GivesThePlainFitsNumbers(int stages, int horizon, CascadeArrangement arrangement)
+    {
+        // Through a feed change, a stage losing efficiency, steady windows in between and a temperature step, the fit
+        // that takes over the last fit's final run and starts its splits from the base run's (ReuseRuns) against the
+        // fit that runs every pass in full. The splits agree within the splitter's tolerance (1e-13 relative), which
+        // moves the efficiencies by about 1e-12 in these runs; the bounds leave a factor of about 100.
+        UnitDescription unit = TestPlants.Train(stages, arrangement: arrangement, instruments: []);
+        double[] truth = [.. unit.Nominal.Efficiencies];
+        var plant = new Plant(unit, truth);
+        var window = TimeSpan.FromSeconds(WindowSeconds);
+        var reusing = new DynamicEfficiencyTracker(unit, window, horizon);
+        var plain = new DynamicEfficiencyTracker(unit, window, horizon) { ReuseRuns = false };
+        var random = new Random(47);
+        TrackerWindow first = plant.Window(WindowSeconds, random);
+        reusing.AddSteady(first, truth);
+        plain.AddSteady(first, truth);
+        plant.Inputs.Feed = new MaterialStream(1200, new Ternary(0.25, 0.75, 0));
+        double worstValue = 0, worstSigma = 0, worstChi = 0;
+        int fits = 0;
+        for (int w = 1; w <= 20; w++)
+        {
+            if (w == 6)
+            {
+                plant.Inputs.Efficiencies[1] = 0.65;
+            }
+
+            if (w == 14)
+            {
+                plant.Inputs.TemperatureKelvin = 300.15;
+            }
+
+            TrackerWindow next = plant.Window(WindowSeconds, random);
+            if (w is 10 or 11)
+            {
+                reusing.AddSteady(next, plain.Efficiencies.ToArray());
+                plain.AddSteady(next, plain.Efficiencies.ToArray());
+                continue;
+            }
+
+            DynamicFit? a = reusing.Add(next), b = plain.Add(next);
+            Assert.Equal(b is null, a is null);
+            if (a is null || b is null)
+            {
+                continue;
+            }
+
+            fits++;
+            Assert.Equal(b.DegreesOfFreedom, a.DegreesOfFreedom);
+            worstChi = Math.Max(worstChi, Math.Abs(a.ChiSquare - b.ChiSquare) / Math.Max(b.ChiSquare, 1));
+            for (int k = 0; k < stages; k++)
+            {
+                EstimatedValue ea = a.Efficiencies[k]!.Value, eb = b.Efficiencies[k]!.Value;
+                worstValue = Math.Max(worstValue, Math.Abs(ea.Value - eb.Value));
+                worstSigma = Math.Max(worstSigma, Math.Abs(ea.Sigma - eb.Sigma) / eb.Sigma);
+            }
+        }
+
+        output.WriteLine($"{fits} fits: largest difference {worstValue:G3} in an efficiency, {worstSigma:G3} relative in a sigma, {worstChi:G3} in chi-square");
+        Assert.Equal(18, fits);
+        Assert.True(worstValue <= 1e-10, $"efficiencies differ by {worstValue:G3}");
+        Assert.True(worstSigma <= 1e-9, $"sigmas differ by {worstSigma:G3} relative");
+        Assert.True(worstChi <= 1e-9, $"chi-squares differ by {worstChi:G3} relative");
     }
 
     [Fact]

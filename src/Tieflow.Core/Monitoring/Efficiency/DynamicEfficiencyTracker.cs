@@ -50,8 +50,22 @@ public sealed class DynamicEfficiencyTracker
     private readonly UnitInputs _inputs;
     private UnitDynamics? _anchor;
     private UnitDynamics? _work;
+    private UnitDynamics? _afterFirst;
     private double[][] _predicted = [];
     private double[] _predictedExtract = [];
+
+    // The last fit's final run, kept for the next window (see Residuals): the windows it covered, its efficiencies,
+    // and whether _work and _predicted still hold its state and window means.
+    private readonly List<TrackerWindow> _finalWindows = [];
+    private readonly double[] _finalTheta;
+    private bool _finalKept;
+
+    // Each stage's extract solute fraction before and after every split of the base run and of the final run, per
+    // window and step of the horizon: where the splits of a run with nearby efficiencies will land.
+    private readonly double[] _baseBefore;
+    private readonly double[] _baseAfter;
+    private readonly double[] _finalBefore;
+    private readonly double[] _finalAfter;
 
     /// <summary>Creates a tracker for one mixer-settler unit.</summary>
     /// <param name="unit">The unit (stages, hold-ups, equilibrium, arrangement).</param>
@@ -80,8 +94,33 @@ public sealed class DynamicEfficiencyTracker
         _substeps = Math.Max(1, (int)Math.Ceiling(windowLength.TotalSeconds / 360));
         _substepSeconds = windowLength.TotalSeconds / _substeps;
         _theta = [.. unit.Nominal.Efficiencies];
+        _finalTheta = new double[_n];
         _inputs = new UnitInputs(_n);
+        int trajectory = _horizon * (_substeps + 1) * _n;
+        _baseBefore = new double[trajectory];
+        _baseAfter = new double[trajectory];
+        _finalBefore = new double[trajectory];
+        _finalAfter = new double[trajectory];
     }
+
+    // The runs of one fit: the base run at the current efficiencies, one with each efficiency moved (finite
+    // differences), the final run at the answer; and the anchor's move through a window leaving the horizon.
+    private enum Pass
+    {
+        Advance,
+        Base,
+        Perturbed,
+        Final,
+    }
+
+    /// <summary>
+    /// True (the default): each fit takes over from the last fit's final run what the window the horizon moved by
+    /// leaves unchanged (the anchor's move through the window that left, and the base run through the windows both
+    /// horizons share), and starts every split of the other runs from where the base run's split landed, moved by
+    /// the difference at the step before. The answers are the same within the splitter's tolerance (about 1e-13 in
+    /// each extract solute fraction); false runs every pass in full from the anchor, for the tests that say so.
+    /// </summary>
+    internal bool ReuseRuns { get; init; } = true;
 
     /// <summary>True once a steady window has given the model its starting state.</summary>
     public bool Anchored => _anchor is not null;
@@ -94,6 +133,7 @@ public sealed class DynamicEfficiencyTracker
     {
         _anchor = null;
         _windows.Clear();
+        _finalKept = false;
     }
 
     /// <summary>
@@ -115,13 +155,16 @@ public sealed class DynamicEfficiencyTracker
             Fill(window, _theta);
             _anchor = new UnitDynamics(_unit, _inputs);
             _work = new UnitDynamics(_unit, _inputs);
+            _afterFirst = new UnitDynamics(_unit, _inputs);
             _windows.Clear();
+            _finalKept = false;
             return;
         }
 
         try
         {
             Push(window);
+            _finalKept = false;
         }
         catch (Exception e) when (e is SimulationException or CascadeException or EquilibriumException or ArithmeticException)
         {
@@ -158,8 +201,17 @@ public sealed class DynamicEfficiencyTracker
         _windows.Add(window);
         if (_windows.Count > _horizon)
         {
-            // The oldest window leaves the horizon: the starting state moves on through it with today's efficiencies.
-            Run(_anchor!, _windows[0], _theta, null, 0);
+            // The oldest window leaves the horizon: the starting state moves on through it with today's efficiencies,
+            // which the last fit's final run has done already when it began with that window at these efficiencies.
+            if (_finalKept && ReferenceEquals(_finalWindows[0], _windows[0]) && _finalTheta.AsSpan().SequenceEqual(_theta))
+            {
+                _anchor!.CopyStateFrom(_afterFirst!);
+            }
+            else
+            {
+                Run(_anchor!, 0, _theta, Pass.Advance);
+            }
+
             _windows.RemoveAt(0);
         }
     }
@@ -202,7 +254,7 @@ public sealed class DynamicEfficiencyTracker
         var b = new double[p];
         for (int iteration = 0; iteration < Iterations; iteration++)
         {
-            (double[] r0, double[] s0) = Residuals(theta);
+            (double[] r0, double[] s0) = Residuals(theta, iteration == 0 ? Pass.Base : Pass.Perturbed);
             var jacobian = new double[p][];
             for (int j = 0; j < p; j++)
             {
@@ -214,7 +266,7 @@ public sealed class DynamicEfficiencyTracker
                     trial[m] = theta[k] + h;
                 }
 
-                (double[] r1, _) = Residuals(trial);
+                (double[] r1, _) = Residuals(trial, Pass.Perturbed);
                 jacobian[j] = new double[r0.Length];
                 for (int i = 0; i < r0.Length; i++)
                 {
@@ -267,7 +319,7 @@ public sealed class DynamicEfficiencyTracker
 
         // The fit's chi-square at the answer; the sensitivities of the last step stand for those at the answer (the
         // efficiencies move little within one window, and the model is nearly linear in them over such a step).
-        (double[] rf, double[] sf) = Residuals(theta);
+        (double[] rf, double[] sf) = Residuals(theta, Pass.Final);
         double chi = 0;
         for (int i = 0; i < rf.Length; i++)
         {
@@ -296,7 +348,7 @@ public sealed class DynamicEfficiencyTracker
     }
 
     // Measured minus predicted window means over the horizon, with their sigmas.
-    private (double[] Residuals, double[] Sigmas) Residuals(double[] theta)
+    private (double[] Residuals, double[] Sigmas) Residuals(double[] theta, Pass pass)
     {
         if (_predicted.Length < _windows.Count)
         {
@@ -304,10 +356,41 @@ public sealed class DynamicEfficiencyTracker
             _predictedExtract = new double[_horizon];
         }
 
-        _work!.CopyStateFrom(_anchor!);
-        for (int w = 0; w < _windows.Count; w++)
+        int from = 0;
+        if (pass == Pass.Base && FinalRunCovers(theta) is int offset)
         {
-            Run(_work, _windows[w], theta, _predicted[w], w);
+            // The last fit's final run went through the windows this horizon shares with it, from the same starting
+            // state (the anchor has moved through the window that left with these efficiencies since) and at these
+            // efficiencies: its window means stand, and _work holds its state at their end. Only the new window runs.
+            // Nothing has written _predicted or _work since that run.
+            int stride = (_substeps + 1) * _n;
+            for (int w = 0; w < _windows.Count - 1; w++)
+            {
+                _predicted[w + offset].CopyTo(_predicted[w], 0);
+                _predictedExtract[w] = _predictedExtract[w + offset];
+            }
+
+            Array.Copy(_finalBefore, offset * stride, _baseBefore, 0, (_windows.Count - 1) * stride);
+            Array.Copy(_finalAfter, offset * stride, _baseAfter, 0, (_windows.Count - 1) * stride);
+            from = _windows.Count - 1;
+        }
+        else
+        {
+            _work!.CopyStateFrom(_anchor!);
+        }
+
+        _finalKept = false;
+        for (int w = from; w < _windows.Count; w++)
+        {
+            Run(_work!, w, theta, pass);
+        }
+
+        if (pass == Pass.Final && ReuseRuns)
+        {
+            _finalWindows.Clear();
+            _finalWindows.AddRange(_windows);
+            theta.CopyTo(_finalTheta, 0);
+            _finalKept = true;
         }
 
         var r = new List<double>();
@@ -334,20 +417,72 @@ public sealed class DynamicEfficiencyTracker
         return ([.. r], [.. s]);
     }
 
-    // Runs the model through one window; with a target, the window means (trapezoidal over the steps) of each stage's
-    // raffinate solute and of the final extract's.
-    private void Run(UnitDynamics model, TrackerWindow window, double[] theta, double[]? raffinate, int w)
+    // The offset of this horizon's windows in the last fit's final run (0, or 1 when the horizon has moved on by a
+    // window) when that run covered every window but the newest at these efficiencies; otherwise null.
+    private int? FinalRunCovers(double[] theta)
     {
-        Fill(window, theta);
+        int shared = _windows.Count - 1;
+        int offset = _finalWindows.Count - shared;
+        if (!_finalKept || offset < 0 || !_finalTheta.AsSpan().SequenceEqual(theta))
+        {
+            return null;
+        }
+
+        for (int w = 0; w < shared; w++)
+        {
+            if (!ReferenceEquals(_finalWindows[w + offset], _windows[w]))
+            {
+                return null;
+            }
+        }
+
+        return offset;
+    }
+
+    // Runs the model through window w of the horizon; except on the anchor's advance, the window means (trapezoidal over
+    // the steps) of each stage's raffinate solute and of the final extract's. The base and final runs keep where their
+    // splits start and land; the perturbed and final runs start theirs from the base run's (see ReuseRuns).
+    private void Run(UnitDynamics model, int w, double[] theta, Pass pass)
+    {
+        Fill(_windows[w], theta);
+        double[]? raffinate = pass == Pass.Advance ? null : _predicted[w];
         if (raffinate is not null)
         {
             Array.Clear(raffinate);
             _predictedExtract[w] = 0;
         }
 
+        bool reuse = ReuseRuns;
+        bool predict = reuse && (pass is Pass.Perturbed or Pass.Final);
+        (double[]? before, double[]? after) = !reuse ? (null, null) : pass switch
+        {
+            Pass.Base => (_baseBefore, _baseAfter),
+            Pass.Final => (_finalBefore, _finalAfter),
+            _ => (null, null),
+        };
+        Span<double> starts = model.SplitStarts;
         for (int step = 0; step <= _substeps; step++)
         {
+            int at = ((w * (_substeps + 1)) + step) * _n;
+            if (before is not null)
+            {
+                starts.CopyTo(before.AsSpan(at, _n));
+            }
+
+            if (predict)
+            {
+                for (int k = 0; k < _n; k++)
+                {
+                    starts[k] = _baseAfter[at + k] + (starts[k] - _baseBefore[at + k]);
+                }
+            }
+
             model.Evaluate(_inputs);
+            if (after is not null)
+            {
+                starts.CopyTo(after.AsSpan(at, _n));
+            }
+
             if (raffinate is not null)
             {
                 double weight = (step == 0 || step == _substeps ? 0.5 : 1) / _substeps;
@@ -363,6 +498,11 @@ public sealed class DynamicEfficiencyTracker
             {
                 model.Advance(_substepSeconds);
             }
+        }
+
+        if (pass == Pass.Final && w == 0 && reuse)
+        {
+            _afterFirst!.CopyStateFrom(model);
         }
     }
 
