@@ -18,6 +18,8 @@ public sealed class SignalChecker
     private readonly double[] _sorted;
     private int _sortedCount;
     private readonly double _frozenCritical;
+    private readonly TimeSpan _heldWithin;
+    private readonly TimeSpan _staleAfter;
     private int _count;
     private int _next;
     private DateTimeOffset? _lastUpdate;
@@ -47,6 +49,8 @@ public sealed class SignalChecker
         _sorted = new double[history];
         _frozenCritical = ChiSquared.InvCDF(history - 1, _settings.FrozenProbability);
         UpdateInterval = instrument.UpdateInterval ?? _settings.ContinuousUpdateInterval;
+        _heldWithin = UpdateInterval * 1.5;
+        _staleAfter = UpdateInterval * _settings.StaleIntervals;
     }
 
     /// <summary>Time between updates that the checks expect.</summary>
@@ -65,7 +69,7 @@ public sealed class SignalChecker
         // An analyzer holds its value between updates: a repeat of the last value is a held value unless it comes so long
         // after the last update (1.5 intervals) that it must be a new value that happens to be equal.
         if (_instrument.IsAnalyzer && _lastUpdate is { } last && sample.Quality != SignalQuality.Bad && _lastQuality != SignalQuality.Bad
-            && sample.Value.Equals(_lastValue) && sample.Time - last < UpdateInterval * 1.5)
+            && sample.Value.Equals(_lastValue) && sample.Time - last < _heldWithin)
         {
             return new TagCheckState(false, false, Problem, Describe(Problem));
         }
@@ -137,7 +141,7 @@ public sealed class SignalChecker
     /// <returns>The tag's problem after the check.</returns>
     public SignalProblem Advance(DateTimeOffset now)
     {
-        if (_lastUpdate is { } last && now - last > UpdateInterval * _settings.StaleIntervals)
+        if (_lastUpdate is { } last && now - last > _staleAfter)
         {
             Set(SignalProblem.Stale, used: false);
         }
@@ -250,12 +254,37 @@ public sealed class SignalChecker
     private void ReplaceSorted(double leaving, double value)
     {
         // The leaving value's place (the first element not below it: the value itself, which is always there), then the
-        // elements between it and the new value's place moved by one: the same order as removing and inserting.
-        int lo = 0, hi = _sortedCount;
+        // elements between it and the new value's place moved by one as a block: the same order as removing and
+        // inserting (the new value goes after the elements below it when it moves right, before those above it when it
+        // moves left, and into the leaving value's place when neither neighbour is on the wrong side).
+        Span<double> sorted = _sorted.AsSpan(0, _sortedCount);
+        int from = FirstNotBelow(sorted, leaving);
+        if (from + 1 < sorted.Length && sorted[from + 1] < value)
+        {
+            int to = from + FirstNotBelow(sorted[(from + 1)..], value);
+            sorted[(from + 1)..(to + 1)].CopyTo(sorted[from..]);
+            sorted[to] = value;
+        }
+        else if (from > 0 && sorted[from - 1] > value)
+        {
+            int to = FirstAbove(sorted[..from], value);
+            sorted[to..from].CopyTo(sorted[(to + 1)..]);
+            sorted[to] = value;
+        }
+        else
+        {
+            sorted[from] = value;
+        }
+    }
+
+    /// <summary>The index of the first element of an ascending span that is not below <paramref name="value"/> (its length when none).</summary>
+    private static int FirstNotBelow(ReadOnlySpan<double> sorted, double value)
+    {
+        int lo = 0, hi = sorted.Length;
         while (lo < hi)
         {
             int mid = (lo + hi) >>> 1;
-            if (_sorted[mid] < leaving)
+            if (sorted[mid] < value)
             {
                 lo = mid + 1;
             }
@@ -265,20 +294,27 @@ public sealed class SignalChecker
             }
         }
 
-        int at = lo;
-        while (at + 1 < _sortedCount && _sorted[at + 1] < value)
+        return lo;
+    }
+
+    /// <summary>The index of the first element of an ascending span that is above <paramref name="value"/> (its length when none).</summary>
+    private static int FirstAbove(ReadOnlySpan<double> sorted, double value)
+    {
+        int lo = 0, hi = sorted.Length;
+        while (lo < hi)
         {
-            _sorted[at] = _sorted[at + 1];
-            at++;
+            int mid = (lo + hi) >>> 1;
+            if (sorted[mid] > value)
+            {
+                hi = mid;
+            }
+            else
+            {
+                lo = mid + 1;
+            }
         }
 
-        while (at > 0 && _sorted[at - 1] > value)
-        {
-            _sorted[at] = _sorted[at - 1];
-            at--;
-        }
-
-        _sorted[at] = value;
+        return lo;
     }
 
     /// <summary>Updates the running sums for a value leaving the history (NaN for none) and one entering.</summary>
