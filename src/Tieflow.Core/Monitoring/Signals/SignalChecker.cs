@@ -254,37 +254,12 @@ public sealed class SignalChecker
     private void ReplaceSorted(double leaving, double value)
     {
         // The leaving value's place (the first element not below it: the value itself, which is always there), then the
-        // elements between it and the new value's place moved by one as a block: the same order as removing and
-        // inserting (the new value goes after the elements below it when it moves right, before those above it when it
-        // moves left, and into the leaving value's place when neither neighbour is on the wrong side).
-        Span<double> sorted = _sorted.AsSpan(0, _sortedCount);
-        int from = FirstNotBelow(sorted, leaving);
-        if (from + 1 < sorted.Length && sorted[from + 1] < value)
-        {
-            int to = from + FirstNotBelow(sorted[(from + 1)..], value);
-            sorted[(from + 1)..(to + 1)].CopyTo(sorted[from..]);
-            sorted[to] = value;
-        }
-        else if (from > 0 && sorted[from - 1] > value)
-        {
-            int to = FirstAbove(sorted[..from], value);
-            sorted[to..from].CopyTo(sorted[(to + 1)..]);
-            sorted[to] = value;
-        }
-        else
-        {
-            sorted[from] = value;
-        }
-    }
-
-    /// <summary>The index of the first element of an ascending span that is not below <paramref name="value"/> (its length when none).</summary>
-    private static int FirstNotBelow(ReadOnlySpan<double> sorted, double value)
-    {
-        int lo = 0, hi = sorted.Length;
+        // elements between it and the new value's place moved by one: the same order as removing and inserting.
+        int lo = 0, hi = _sortedCount;
         while (lo < hi)
         {
             int mid = (lo + hi) >>> 1;
-            if (sorted[mid] < value)
+            if (_sorted[mid] < leaving)
             {
                 lo = mid + 1;
             }
@@ -294,27 +269,20 @@ public sealed class SignalChecker
             }
         }
 
-        return lo;
-    }
-
-    /// <summary>The index of the first element of an ascending span that is above <paramref name="value"/> (its length when none).</summary>
-    private static int FirstAbove(ReadOnlySpan<double> sorted, double value)
-    {
-        int lo = 0, hi = sorted.Length;
-        while (lo < hi)
+        int at = lo;
+        while (at + 1 < _sortedCount && _sorted[at + 1] < value)
         {
-            int mid = (lo + hi) >>> 1;
-            if (sorted[mid] > value)
-            {
-                hi = mid;
-            }
-            else
-            {
-                lo = mid + 1;
-            }
+            _sorted[at] = _sorted[at + 1];
+            at++;
         }
 
-        return lo;
+        while (at > 0 && _sorted[at - 1] > value)
+        {
+            _sorted[at] = _sorted[at - 1];
+            at--;
+        }
+
+        _sorted[at] = value;
     }
 
     /// <summary>Updates the running sums for a value leaving the history (NaN for none) and one entering.</summary>
