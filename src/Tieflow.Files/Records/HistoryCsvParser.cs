@@ -7,7 +7,7 @@ namespace Tieflow.Files;
 /// <summary>
 /// The one parser of history CSV lines (<c>time,tag,value,quality</c>), shared by the strict and the tolerant reader.
 /// Works on the file's UTF-8 bytes: lines are found in a large buffer without making a string per line, a tag is
-/// turned into its string once (later rows find it by a lookup on the decoded span), a time repeated on consecutive
+/// turned into its string once (later rows find it by its UTF-8 bytes, without decoding), a time repeated on consecutive
 /// rows is parsed once, and the fixed forms the writer produces (<c>2026-03-02T08:00:00Z</c>, <c>...:00.25Z</c>; plain
 /// decimals) take a fast path whose result is exactly the general parser's; everything else falls back to it.
 /// </summary>
@@ -16,6 +16,7 @@ internal sealed class HistoryCsvParser : IDisposable
     public const string Header = "time,tag,value,quality";
     private const int BufferSize = 1 << 18;
     private const int MaxCachedTags = 100_000;
+    private const int TagSlots = 1024;
     private static readonly string[] Columns = ["time", "tag", "value", "quality"];
 
     private readonly Stream _stream;
@@ -23,6 +24,12 @@ internal sealed class HistoryCsvParser : IDisposable
     private readonly Dictionary<string, string> _tags = new(StringComparer.Ordinal);
     private readonly Dictionary<string, string>.AlternateLookup<ReadOnlySpan<char>> _tagLookup;
     private readonly char[] _chars = new char[256];
+
+    // Tags seen, keyed by their UTF-8 bytes (open addressing on a hash of the bytes), so that a row's tag is found
+    // without decoding it; filled up to half its slots, after which new tags take the decoding path above.
+    private readonly byte[]?[] _tagBytes = new byte[]?[TagSlots];
+    private readonly string?[] _tagStrings = new string?[TagSlots];
+    private int _tagSlotsUsed;
     private readonly byte[] _lastTimeText = new byte[64];
     private int _lastTimeLength;
     private DateTimeOffset _lastTime;
@@ -189,6 +196,37 @@ internal sealed class HistoryCsvParser : IDisposable
     private static string Text(ReadOnlySpan<byte> bytes) => Encoding.UTF8.GetString(bytes.Length <= 80 ? bytes : bytes[..80]) + (bytes.Length > 80 ? "..." : string.Empty);
 
     private string? Tag(ReadOnlySpan<byte> bytes)
+    {
+        // The same bytes always decode to the same text, so a tag found by its bytes is the one decoding would give.
+        uint hash = 2166136261;
+        foreach (byte b in bytes)
+        {
+            hash = (hash ^ b) * 16777619;
+        }
+
+        int slot = (int)(hash & (TagSlots - 1));
+        while (_tagBytes[slot] is { } known)
+        {
+            if (bytes.SequenceEqual(known))
+            {
+                return _tagStrings[slot];
+            }
+
+            slot = (slot + 1) & (TagSlots - 1);
+        }
+
+        string? tag = DecodeTag(bytes);
+        if (tag is not null && bytes.Length <= _chars.Length && _tagSlotsUsed < TagSlots / 2)
+        {
+            _tagBytes[slot] = bytes.ToArray();
+            _tagStrings[slot] = tag;
+            _tagSlotsUsed++;
+        }
+
+        return tag;
+    }
+
+    private string? DecodeTag(ReadOnlySpan<byte> bytes)
     {
         if (bytes.Length > _chars.Length)
         {

@@ -38,6 +38,35 @@ public sealed class PlantAnalysisTests
     }
 
     [Fact]
+    public void Add_SameRecords_WhetherEachReadingsTagIsOneStringOrANewOne()
+    {
+        // The analysis finds a tag's unit by the string's identity first; a new string with the same text (as a live
+        // source may hand) must be routed the same, and so must tags that no unit has, however often they come.
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Truth);
+        var shared = new PlantAnalysis(new PlantDescription("Brackenmoor", [unit]));
+        var fresh = new PlantAnalysis(new PlantDescription("Brackenmoor", [unit]));
+        var sharedRecords = new List<MonitorRecord>();
+        var freshRecords = new List<MonitorRecord>();
+        int i = 0;
+        foreach (SignalSample s in UnitAnalyzerTests.Readings(unit, truth, TimeSpan.FromHours(2), seed: 7))
+        {
+            SignalSample other = i++ % 50 == 0 ? s with { Tag = "XX-" + (i % 3) } : s;
+            shared.Add(other, sharedRecords);
+            fresh.Add(other with { Tag = new string(other.Tag.AsSpan()) }, freshRecords);
+        }
+
+        shared.Advance(T0.AddHours(2), sharedRecords);
+        fresh.Advance(T0.AddHours(2), freshRecords);
+
+        Assert.NotEmpty(sharedRecords);
+        Assert.Equal(sharedRecords.Select(r => (r.Measurement, r.Time)), freshRecords.Select(r => (r.Measurement, r.Time)));
+        Assert.Equal(shared.Samples, fresh.Samples);
+        Assert.Equal(shared.UnknownTags.OrderBy(p => p.Key, StringComparer.Ordinal), fresh.UnknownTags.OrderBy(p => p.Key, StringComparer.Ordinal));
+        Assert.Equal(3, shared.UnknownTags.Count);
+    }
+
+    [Fact]
     public void SourceLostThenResumed_OneGapAlertRaisedAndClearedPerUnit()
     {
         var plant = new PlantAnalysis(new PlantDescription("Brackenmoor", [DemoUnits.Train(4)]));

@@ -209,4 +209,51 @@ public sealed class HistoryCsvReaderTests
             }
         }
     }
+
+    [Fact]
+    public void TagsFoundByTheirBytes_AreTheDecodedText_PastTheCacheAndWithCollisions()
+    {
+        // More distinct tags than the parser's byte-keyed table holds (so that later tags take the decoding path), in a
+        // seeded shuffled order and each several times, with non-ASCII text, undecodable bytes and blanks among them.
+        var random = new Random(29);
+        var tags = new List<string>();
+        for (int i = 0; i < 700; i++)
+        {
+            tags.Add(i % 97 == 0 ? $"FI-{i}-\u00e9\u6e29" : $"T{i.ToString(CultureInfo.InvariantCulture)}");
+        }
+
+        var rows = new List<string>();
+        for (int pass = 0; pass < 4; pass++)
+        {
+            rows.AddRange(tags.OrderBy(_ => random.Next()));
+        }
+
+        using var folder = new TempFolder();
+        string path = folder.PathOf("h.csv");
+        using (var file = File.Create(path))
+        {
+            file.Write(Encoding.UTF8.GetBytes(Header));
+            foreach (string tag in rows)
+            {
+                file.Write(Encoding.UTF8.GetBytes($"2026-03-02T08:00:00Z,{tag},1,good\n"));
+            }
+
+            byte[] undecodable = [.. "2026-03-02T08:00:00Z,AI-"u8, 0xFF, 0xFE, .. ",2,good\n2026-03-02T08:00:00Z, FI-301,2,good\n"u8];
+            for (int i = 0; i < 3; i++)
+            {
+                file.Write(undecodable);
+            }
+        }
+
+        HistoryCsvSource source = HistoryCsvReader.Open(path);
+        SignalSample[] read = [.. source];
+        Assert.Equal(rows.Count + 3, read.Length);
+        Assert.Equal(rows, read.Take(rows.Count).Select(s => s.Tag));
+        Assert.All(read.Skip(rows.Count), s => Assert.Equal("AI-\ufffd\ufffd", s.Tag));
+        Assert.Equal(3, source.BadLines);
+        Assert.All(source.FirstBadLines, b => Assert.Contains("tag", b.Reason, StringComparison.Ordinal));
+
+        // Every row of one tag gets the one string.
+        Assert.All(read.GroupBy(s => s.Tag), g => Assert.All(g, s => Assert.Same(g.First().Tag, s.Tag)));
+    }
 }

@@ -18,6 +18,8 @@ public sealed class SignalChecker
     private readonly double[] _sorted;
     private int _sortedCount;
     private readonly double _frozenCritical;
+    private readonly TimeSpan _heldWithin;
+    private readonly TimeSpan _staleAfter;
     private int _count;
     private int _next;
     private DateTimeOffset? _lastUpdate;
@@ -47,6 +49,8 @@ public sealed class SignalChecker
         _sorted = new double[history];
         _frozenCritical = ChiSquared.InvCDF(history - 1, _settings.FrozenProbability);
         UpdateInterval = instrument.UpdateInterval ?? _settings.ContinuousUpdateInterval;
+        _heldWithin = UpdateInterval * 1.5;
+        _staleAfter = UpdateInterval * _settings.StaleIntervals;
     }
 
     /// <summary>Time between updates that the checks expect.</summary>
@@ -65,7 +69,7 @@ public sealed class SignalChecker
         // An analyzer holds its value between updates: a repeat of the last value is a held value unless it comes so long
         // after the last update (1.5 intervals) that it must be a new value that happens to be equal.
         if (_instrument.IsAnalyzer && _lastUpdate is { } last && sample.Quality != SignalQuality.Bad && _lastQuality != SignalQuality.Bad
-            && sample.Value.Equals(_lastValue) && sample.Time - last < UpdateInterval * 1.5)
+            && sample.Value.Equals(_lastValue) && sample.Time - last < _heldWithin)
         {
             return new TagCheckState(false, false, Problem, Describe(Problem));
         }
@@ -137,7 +141,7 @@ public sealed class SignalChecker
     /// <returns>The tag's problem after the check.</returns>
     public SignalProblem Advance(DateTimeOffset now)
     {
-        if (_lastUpdate is { } last && now - last > UpdateInterval * _settings.StaleIntervals)
+        if (_lastUpdate is { } last && now - last > _staleAfter)
         {
             Set(SignalProblem.Stale, used: false);
         }
