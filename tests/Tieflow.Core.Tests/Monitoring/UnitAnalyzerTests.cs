@@ -49,17 +49,7 @@ public sealed class UnitAnalyzerTests(ITestOutputHelper output)
     [Fact]
     public void FrozenFeedMeter_IsNamedBySignalQuality()
     {
-        UnitDescription unit = DemoUnits.Train(4);
-        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Truth);
-        var analyzer = new UnitAnalyzer(unit);
-        var records = new List<MonitorRecord>();
-        foreach (SignalSample s in Readings(unit, truth, TimeSpan.FromHours(4), seed: 3))
-        {
-            bool frozen = s.Tag == "FI-302" && s.Time >= T0.AddHours(2);
-            analyzer.Add(frozen ? s with { Value = 450.3 } : s, records);
-        }
-
-        analyzer.Advance(T0.AddHours(4), records);
+        (_, List<MonitorRecord> records) = SteadyTrainWith(TimeSpan.FromHours(4), seed: 3, s => s.Tag == "FI-302" && s.Time >= T0.AddHours(2) ? s with { Value = 450.3 } : s);
         AlertRecord alert = Assert.Single(records.OfType<AlertRecord>(), a => a.Active);
         Assert.Equal("signal-quality", alert.Kind);
         Assert.Equal("FI-302", alert.Tag);
@@ -75,17 +65,8 @@ public sealed class UnitAnalyzerTests(ITestOutputHelper output)
         // three consecutive steady windows whose test passes (the first window wholly after hour 6 ends at 6.5 h, the
         // third at 7.5 h) and the one-hour off-delay. Judged by the serial elimination alone, it would clear an off-delay
         // after the first window that does not name it.
-        UnitDescription unit = DemoUnits.Train(4);
-        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Truth);
-        var analyzer = new UnitAnalyzer(unit);
-        var records = new List<MonitorRecord>();
-        foreach (SignalSample s in Readings(unit, truth, TimeSpan.FromHours(11), seed: 5))
-        {
-            bool biased = s.Tag == "FI-301" && s.Time >= T0.AddHours(1) && s.Time < T0.AddHours(6);
-            analyzer.Add(biased ? s with { Value = s.Value + 10 } : s, records);
-        }
-
-        analyzer.Advance(T0.AddHours(11), records);
+        (UnitDescription unit, List<MonitorRecord> records) = SteadyTrainWith(TimeSpan.FromHours(11), seed: 5,
+            s => s.Tag == "FI-301" && s.Time >= T0.AddHours(1) && s.Time < T0.AddHours(6) ? s with { Value = s.Value + 10 } : s);
         foreach (AlertRecord a in records.OfType<AlertRecord>())
         {
             output.WriteLine($"{a.Time:HH:mm} {a.Kind} {a.Tag} {(a.Active ? "raised" : "cleared")}: {a.Message} [{string.Join(", ", a.Evidence.Select(p => $"{p.Key} {p.Value:G4}"))}]");
@@ -139,6 +120,22 @@ public sealed class UnitAnalyzerTests(ITestOutputHelper output)
             UnitRecord u => $"{u.Time:o} unit {u.GlobalTest:R} {u.Steady}",
             _ => $"{r.Time:o} {r.Measurement}",
         };
+    }
+
+    /// <summary>The four-stage train at a steady state for a time, its readings passed through a fault; the records.</summary>
+    private static (UnitDescription Unit, List<MonitorRecord> Records) SteadyTrainWith(TimeSpan length, int seed, Func<SignalSample, SignalSample> fault)
+    {
+        UnitDescription unit = DemoUnits.Train(4);
+        CascadeResult truth = new CascadeSolver(unit.Equilibrium, 298.15).SolveCountercurrent(unit.Nominal.Feed, unit.Nominal.Solvent, Truth);
+        var analyzer = new UnitAnalyzer(unit);
+        var records = new List<MonitorRecord>();
+        foreach (SignalSample s in Readings(unit, truth, length, seed))
+        {
+            analyzer.Add(fault(s), records);
+        }
+
+        analyzer.Advance(T0 + length, records);
+        return (unit, records);
     }
 
     /// <summary>Readings of every instrument of the unit at a steady state: flows each second, analyzers at their updates, with seeded noise.</summary>

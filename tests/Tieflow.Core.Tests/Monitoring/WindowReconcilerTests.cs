@@ -190,10 +190,7 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         int usualIterations = 0, tightIterations = 0;
         for (int window = 0; window < 20; window++)
         {
-            WindowMeasurement[] readings = [.. Readings(model, truth).Select(m => m with
-            {
-                Value = m.Key.Quantity == MeasuredQuantity.Flow ? m.Value + (m.Sigma * Gaussian(random)) : Math.Clamp(m.Value + (m.Sigma * Gaussian(random)), 0, 1),
-            })];
+            IReadOnlyList<WindowMeasurement> readings = Noisy(Readings(model, truth), random);
             WindowReconciliation a = usual.Reconcile(readings, 298.15), b = tight.Reconcile(readings, 298.15);
             usualIterations += a.EnvelopeIterations;
             tightIterations += b.EnvelopeIterations;
@@ -220,7 +217,6 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         return (model, readings);
     }
 
-    /// <summary>Every instrument of the unit reading the solved cascade exactly, with the sigma of a 30-minute average.</summary>
     [Fact]
     public void OneReconcilerOverManyWindows_EqualsANewReconcilerPerWindow()
     {
@@ -235,10 +231,7 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         int atBound = 0;
         for (int window = 0; window < 30; window++)
         {
-            WindowMeasurement[] readings = [.. Readings(model, truth).Select(m => m with
-            {
-                Value = m.Key.Quantity == MeasuredQuantity.Flow ? m.Value + (m.Sigma * Gaussian(random)) : Math.Clamp(m.Value + (m.Sigma * Gaussian(random)), 0, 1),
-            }).OrderBy(_ => random.Next())];
+            WindowMeasurement[] readings = [.. Noisy(Readings(model, truth), random).OrderBy(_ => random.Next())];
             WindowReconciliation expected = new WindowReconciler(model).Reconcile(readings, 298.15);
             WindowReconciliation actual = kept.Reconcile(readings, 298.15);
             atBound += expected.Report.Final.ActiveBounds.Count > 0 ? 1 : 0;
@@ -271,9 +264,17 @@ public sealed class WindowReconcilerTests(ITestOutputHelper output)
         Assert.InRange(atBound, 3, 30);
     }
 
+    // Each reading moved by one of its sigmas times a standard normal draw (fractions kept within 0 and 1).
+    private static List<WindowMeasurement> Noisy(IReadOnlyList<WindowMeasurement> readings, Random random) =>
+        [.. readings.Select(m => m with
+        {
+            Value = m.Key.Quantity == MeasuredQuantity.Flow ? m.Value + (m.Sigma * Gaussian(random)) : Math.Clamp(m.Value + (m.Sigma * Gaussian(random)), 0, 1),
+        })];
+
     private static double Gaussian(Random random) =>
         Math.Sqrt(-2 * Math.Log(1 - random.NextDouble())) * Math.Cos(2 * Math.PI * random.NextDouble());
 
+    /// <summary>Every instrument of the unit reading the solved cascade exactly, with the sigma of a 30-minute average.</summary>
     internal static IReadOnlyList<WindowMeasurement> Readings(UnitModel model, CascadeResult truth)
     {
         var list = new List<WindowMeasurement>();
