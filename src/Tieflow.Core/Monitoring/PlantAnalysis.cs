@@ -1,4 +1,3 @@
-using System.Runtime.CompilerServices;
 using Tieflow.Core.Monitoring.Records;
 using Tieflow.Core.Plant;
 
@@ -15,17 +14,10 @@ public sealed class PlantAnalysis
     /// <summary>Alert kind of a gap in the data source (beyond the analysis kinds): raised while the source is lost.</summary>
     public const string SourceGapKind = "source-gap";
 
-    private const int SeenSlots = 256;
-
     private readonly Dictionary<string, UnitAnalyzer> _byTag = new(StringComparer.Ordinal);
     private readonly List<UnitAnalyzer> _analyzers = [];
     private readonly Dictionary<string, long> _unknown = new(StringComparer.Ordinal);
-
-    // A reader hands the same string object for every reading of a tag: a small table keyed by that object's identity
-    // finds its analyzer without hashing the text. A miss (another string with the same text, a slot taken by another
-    // tag) asks the dictionary, so the outcome is always the dictionary's.
-    private readonly string?[] _seenTags = new string?[SeenSlots];
-    private readonly UnitAnalyzer?[] _seenAnalyzers = new UnitAnalyzer?[SeenSlots];
+    private readonly TagLookup<UnitAnalyzer> _analyzerOf;
     private DateTimeOffset? _gapSince;
     private string? _gapReason;
 
@@ -46,6 +38,8 @@ public sealed class PlantAnalysis
                 _byTag[i.Tag] = a;
             }
         }
+
+        _analyzerOf = new TagLookup<UnitAnalyzer>(_byTag);
     }
 
     /// <summary>The plant analysed.</summary>
@@ -72,16 +66,7 @@ public sealed class PlantAnalysis
     public void Add(in SignalSample sample, List<MonitorRecord> output)
     {
         Note(sample.Time);
-        string tag = sample.Tag;
-        int slot = RuntimeHelpers.GetHashCode(tag) & (SeenSlots - 1);
-        UnitAnalyzer? analyzer = ReferenceEquals(_seenTags[slot], tag) ? _seenAnalyzers[slot] : null;
-        if (analyzer is null && _byTag.TryGetValue(tag, out analyzer))
-        {
-            _seenTags[slot] = tag;
-            _seenAnalyzers[slot] = analyzer;
-        }
-
-        if (analyzer is not null)
+        if (_analyzerOf.TryGetValue(sample.Tag, out UnitAnalyzer? analyzer))
         {
             Samples++;
             analyzer.Add(sample, output);

@@ -924,15 +924,9 @@ public sealed class UnitAnalyzer
         {
             if (tag != _solventMeter || _solventMeterBias is null)
             {
-                int found = -1;
-                for (int i = 0; i < excludedTests.Count && found < 0; i++)
+                if (excludedTests.FirstOrDefault(t => t.Tag == tag) is { Tag: not null } test)
                 {
-                    found = excludedTests[i].Tag == tag ? i : -1;
-                }
-
-                if (found >= 0)
-                {
-                    UpdateExcludedSuspect(end, excludedTests[found], output);
+                    UpdateExcludedSuspect(end, test, output);
                     continue;
                 }
 

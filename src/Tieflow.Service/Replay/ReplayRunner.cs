@@ -1,4 +1,3 @@
-using System.Runtime.CompilerServices;
 using Tieflow.Core.Monitoring;
 using Tieflow.Core.Monitoring.Evaluation;
 using Tieflow.Core.Monitoring.Records;
@@ -19,14 +18,8 @@ internal sealed class ReplayRunner
 
     private readonly PlantAnalysis _analysis;
     private readonly TimeSpan _reorderWindow;
-    private const int SeenSlots = 256;
-
     private readonly Dictionary<string, int> _rank = new(StringComparer.Ordinal);
-
-    // The history reader hands one string object per tag: a small table keyed by its identity gives the rank without
-    // hashing the text (a miss asks the dictionary, so the outcome is the dictionary's).
-    private readonly string?[] _seenTags = new string?[SeenSlots];
-    private readonly int[] _seenRanks = new int[SeenSlots];
+    private readonly TagLookup<int> _rankOf;
 
     /// <param name="plant">The plant.</param>
     /// <param name="reorderWindow">Source time within which rows are put back in order (<see cref="DefaultReorderWindow"/> when null).</param>
@@ -41,6 +34,8 @@ internal sealed class ReplayRunner
                 _rank.TryAdd(i.Tag, _rank.Count);
             }
         }
+
+        _rankOf = new TagLookup<int>(_rank);
     }
 
     /// <summary>Replays a history; records go to <paramref name="sink"/> as they are produced.</summary>
@@ -83,17 +78,7 @@ internal sealed class ReplayRunner
 
             // Rows of tags the plant does not have are counted here and never held by the reorder buffer; the others
             // are put in order of time and, within one time, of the plant file's instruments.
-            int slot = RuntimeHelpers.GetHashCode(s.Tag) & (SeenSlots - 1);
-            bool known = ReferenceEquals(_seenTags[slot], s.Tag);
-            int rank = known ? _seenRanks[slot] : 0;
-            if (!known && _rank.TryGetValue(s.Tag, out rank))
-            {
-                _seenTags[slot] = s.Tag;
-                _seenRanks[slot] = rank;
-                known = true;
-            }
-
-            if (!known)
+            if (!_rankOf.TryGetValue(s.Tag, out int rank))
             {
                 unknown[s.Tag] = unknown.TryGetValue(s.Tag, out long n) ? n + 1 : 1;
             }
